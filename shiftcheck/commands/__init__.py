@@ -1,0 +1,1 @@
+"""commands stage of shiftcheck."""

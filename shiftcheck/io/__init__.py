@@ -1,0 +1,1 @@
+"""io stage of shiftcheck."""

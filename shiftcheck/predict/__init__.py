@@ -1,0 +1,1 @@
+"""predict stage of shiftcheck."""

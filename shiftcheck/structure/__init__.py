@@ -1,0 +1,1 @@
+"""structure stage of shiftcheck."""

@@ -1,0 +1,122 @@
+"""An ensemble of models sharing one topology: annotations per atom + (models, atoms, 3) coordinates.
+
+Modelled on the "atom array stack" idea: the per-atom annotations (residue, name, element)
+are stored once; coordinates of all models are one numpy array, so every later stage can
+work on all models at once by broadcasting.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+__all__ = ["Ensemble"]
+
+
+@dataclass
+class Ensemble:
+    """Models of one protein chain with a shared topology.
+
+    Attributes
+    ----------
+    name : str
+        Display name (file name, or a name given by the caller).
+    sources : list of str
+        Files the models came from.
+    model_names : list of str
+        One per model: the file name, or ``name#N`` for model N of a multi-model file.
+    chain_id : str
+        Author chain ID.
+    res_seq, res_icode, res_name : np.ndarray, shape (n_res,)
+        Author residue number, insertion code ('' if none), residue name (three-letter,
+        MSE already turned into MET).
+    atom_res : np.ndarray of int, shape (n_atoms,)
+        Index into the residue arrays for each atom.
+    atom_name : np.ndarray of str, shape (n_atoms,)
+        IUPAC 1998 atom name (NMR-STAR convention).
+    element : np.ndarray of str, shape (n_atoms,)
+    coords : np.ndarray of float, shape (n_models, n_atoms, 3)
+        Coordinates in Å; NaN where an atom is missing from a model.
+    built : np.ndarray of bool, shape (n_atoms,)
+        True for hydrogens built by shiftcheck rather than read from the file.
+    method : str
+        Experimental method from the header where present ('' otherwise).
+    warnings : list of str
+    """
+
+    name: str
+    sources: list[str]
+    model_names: list[str]
+    chain_id: str
+    res_seq: np.ndarray
+    res_icode: np.ndarray
+    res_name: np.ndarray
+    atom_res: np.ndarray
+    atom_name: np.ndarray
+    element: np.ndarray
+    coords: np.ndarray
+    built: np.ndarray
+    method: str = ""
+    warnings: list[str] = field(default_factory=list)
+    _index: dict | None = field(default=None, repr=False, compare=False)
+
+    @property
+    def n_models(self) -> int:
+        return int(self.coords.shape[0])
+
+    @property
+    def n_atoms(self) -> int:
+        return int(self.coords.shape[1])
+
+    @property
+    def n_residues(self) -> int:
+        return int(self.res_name.shape[0])
+
+    @property
+    def one_letter(self) -> str:
+        from ..shifts import THREE_TO_ONE
+
+        return "".join(THREE_TO_ONE.get(str(r), "X") for r in self.res_name)
+
+    def _lookup(self) -> dict:
+        if self._index is None:
+            self._index = {(int(r), str(a)): i for i, (r, a) in
+                           enumerate(zip(self.atom_res, self.atom_name))}
+        return self._index
+
+    def index(self, res_index: int, atom_name: str) -> int:
+        """Atom index of ``atom_name`` in residue ``res_index`` (0-based), or -1."""
+        return self._lookup().get((int(res_index), atom_name), -1)
+
+    def indices(self, res_index: np.ndarray, atom_name: str | np.ndarray) -> np.ndarray:
+        """Vectorised :meth:`index`: int array, -1 where absent.
+
+        ``atom_name`` may be one name for all residues or an array of names.
+        Residue indices outside the chain give -1.
+        """
+        res_index = np.asarray(res_index)
+        names = np.broadcast_to(np.asarray(atom_name, dtype=object), res_index.shape)
+        look = self._lookup()
+        return np.fromiter((look.get((int(r), str(a)), -1) for r, a in zip(res_index, names)),
+                           dtype=np.int64, count=res_index.size).reshape(res_index.shape)
+
+    def xyz(self, res_index: np.ndarray, atom_name: str | np.ndarray) -> np.ndarray:
+        """Coordinates (n_models, len(res_index), 3) of the named atoms, NaN where absent."""
+        idx = self.indices(res_index, atom_name)
+        out = np.full((self.n_models, idx.size, 3), np.nan)
+        ok = idx >= 0
+        out[:, ok] = self.coords[:, idx[ok]]
+        return out
+
+    def residue_label(self, res_index: int) -> str:
+        """E.g. 'A:45 LYS' or 'A:45A LYS'."""
+        return f"{self.chain_id}:{self.res_seq[res_index]}{self.res_icode[res_index]} {self.res_name[res_index]}"
+
+    def select_models(self, which: np.ndarray | list[int]) -> "Ensemble":
+        """A new ensemble holding only the given model indices (topology shared)."""
+        import dataclasses
+
+        which = list(which)
+        return dataclasses.replace(self, coords=self.coords[which],
+                                   model_names=[self.model_names[i] for i in which],
+                                   warnings=list(self.warnings), _index=None)
