@@ -212,7 +212,7 @@ def _parse(text: str, path: str):
     except Exception as exc:
         msg = " ".join(str(exc).split())[:200]
         raise InputError(f"unreadable coordinates: {msg}", path=path, line=_line_of(exc)) from None
-    if len(st) == 0:
+    if len(st) == 0 or all(m.count_atom_sites() == 0 for m in st):
         raise InputError("no atoms found (not a PDB or mmCIF coordinate file?)", path=path)
     return st
 
