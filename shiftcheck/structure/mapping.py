@@ -39,7 +39,8 @@ class Mapping:
     Attributes
     ----------
     identity : float
-        Identical residues / aligned residue pairs.
+        Identical residues / aligned residue pairs (pairs with an unknown residue 'X' on
+        either side are mapped but not counted).
     coverage : float
         Fraction of the residues that carry shifts which have a model residue.
     n_aligned : int
@@ -164,8 +165,10 @@ def map_sequence(shifts: ShiftList, ens: Ensemble, min_identity: float = DEFAULT
     aln = _aligner().align(seq, model_seq)[0]
     pairs = [(i, j) for (a0, a1), (b0, b1) in zip(*aln.aligned) for i, j in zip(range(a0, a1), range(b0, b1))]
     n = len(pairs)
-    same = [seq[i] == model_seq[j] and seq[i] != "X" for i, j in pairs]
-    identity = float(np.mean(same)) if n else 0.0
+    known = [seq[i] != "X" and model_seq[j] != "X" for i, j in pairs]
+    same = [seq[i] == model_seq[j] for i, j in pairs]
+    n_known = sum(known)
+    identity = sum(s for s, k in zip(same, known) if k) / n_known if n_known else 0.0
     shorter = min(len(seq), len(model_seq))
     where = f" (model {ens.name}, chain {ens.chain_id})"
     if n < max(1, min(10, shorter // 2)) or n < 0.5 * shorter:
@@ -177,7 +180,7 @@ def map_sequence(shifts: ShiftList, ens: Ensemble, min_identity: float = DEFAULT
     seq_to_res = {int(seq_ids[i]): int(j) for i, j in pairs}
     res_to_seq = {j: s for s, j in seq_to_res.items()}
     mismatches = [(int(seq_ids[i]), seq[i], f"{ens.res_name[j]} {ens.res_seq[j]}{ens.res_icode[j]}")
-                  for (i, j), ok in zip(pairs, same) if not ok]
+                  for (i, j), ok, k in zip(pairs, same, known) if k and not ok]
     with_shifts = sorted(set(int(s) for s in np.asarray(shifts.seq_id).tolist()))
     unmapped = [s for s in with_shifts if s not in seq_to_res]
     coverage = 1.0 - len(unmapped) / len(with_shifts) if with_shifts else 0.0
