@@ -175,14 +175,17 @@ def _read_text(path: str) -> str:
     if not raw.strip():
         raise InputError("file is empty", path=path)
     head = raw[:65536]
-    bad = sum(head.count(bytes([c])) for c in list(range(0, 9)) + [11, 12] + list(range(14, 32)))
+    bad = len(head) - len(head.translate(None, _CONTROL))
     if b"\x00" in head or bad > 0.01 * len(head):
         raise InputError("binary content, expected a PDB or mmCIF text file", path=path)
     return raw.decode("latin-1")
 
 
+_CONTROL = bytes(list(range(0, 9)) + [11, 12] + list(range(14, 32)))
+
+
 def _is_cif(text: str) -> bool:
-    for line in text.splitlines():
+    for line in text[:4096].splitlines():
         s = line.strip()
         if not s or s.startswith("#"):
             continue
@@ -272,7 +275,7 @@ def _choose_chain(model, chain: str | None, path: str, warnings: list[str]) -> s
 
 
 def _pick_altloc(atoms: list[tuple]) -> list[tuple]:
-    """atoms: (name, altloc, occ, element, pos); keep blank altloc + the best conformer."""
+    """atoms: (name, altloc, occ, element, raw index); keep blank altloc + the best conformer."""
     occ: dict[str, list[float]] = {}
     for a in atoms:
         if a[1] != "\0":
@@ -290,30 +293,47 @@ def _pick_altloc(atoms: list[tuple]) -> list[tuple]:
     return keep
 
 
+def _signature(model, chain_id: str) -> list:
+    """Residue names, numbers and raw atom names/altlocs of the chain: equal signatures mean
+    equal topology, so later models can reuse the first model's atom selection."""
+    return [(r.name, r.seqid.num, r.seqid.icode, tuple((a.name, a.altloc) for a in r))
+            for ch in model if ch.name == chain_id for r in ch]
+
+
+def _positions(model, chain_id: str) -> np.ndarray:
+    return np.array([a.pos.tolist() for ch in model if ch.name == chain_id for r in ch for a in r],
+                    dtype=np.float64).reshape(-1, 3)
+
+
 def _extract(model, chain_id: str, notes: dict) -> tuple[list, list, list]:
-    """Residue keys, atom keys and coordinates of one model's chosen chain."""
+    """Residue keys, atom keys and raw atom indices (into :func:`_positions`) of one model."""
     res_keys: list[tuple] = []
     atom_keys: list[tuple] = []
-    xyz: list = []
+    raw: list[int] = []
     seen_res: set = set()
+    k = 0
     for ch in model:
         if ch.name != chain_id:
             continue
         for r in ch:
             orig = r.name
+            n_here = len(r)
             name = normalise_comp_id(orig) if orig not in _WATERS else orig
             if name not in _AA20:
                 kind = "waters" if orig in _WATERS else "other residues"
                 notes.setdefault(kind, {}).setdefault(orig, set()).add(str(r.seqid))
+                k += n_here
                 continue
             rk = (r.seqid.num, r.seqid.icode.strip(), name)
             if (rk[0], rk[1]) in seen_res:
                 notes.setdefault("duplicate residues", set()).add(f"{rk[0]}{rk[1]}")
+                k += n_here
                 continue
             seen_res.add((rk[0], rk[1]))
             if orig != name:
                 notes.setdefault("renamed", {}).setdefault(orig, set()).add(name)
-            atoms = [(a.name, a.altloc, a.occ, a.element.name, a.pos) for a in r]
+            atoms = [(a.name, a.altloc, a.occ, a.element.name, k + i) for i, a in enumerate(r)]
+            k += n_here
             if any(a[1] != "\0" for a in atoms):
                 atoms = _pick_altloc(atoms)
                 notes["altloc"] = notes.get("altloc", 0) + 1
@@ -328,8 +348,8 @@ def _extract(model, chain_id: str, notes: dict) -> tuple[list, list, list]:
                 names_here.add(an)
                 el = "S" if (orig == "MSE" and an == "SD") else (a[3] or an[:1])
                 atom_keys.append((ri, an, el.upper()))
-                xyz.append(a[4].tolist())
-    return res_keys, atom_keys, xyz
+                raw.append(a[4])
+    return res_keys, atom_keys, raw
 
 
 def _to_ensemble(st, path: str, chain: str | None) -> Ensemble:
@@ -338,9 +358,18 @@ def _to_ensemble(st, path: str, chain: str | None) -> Ensemble:
     base = os.path.basename(path)
     notes: dict = {}
     per_model = []
+    first_sig = first = None
     for model in st:
-        rk, ak, xyz = _extract(model, chain_id, notes)
+        sig = _signature(model, chain_id) if first is not None else None
+        if first is not None and sig == first_sig:          # same topology: coordinates only
+            rk, ak, raw = first
+        else:
+            rk, ak, raw = _extract(model, chain_id, notes)
+            if first is None and rk:
+                first = (rk, ak, raw)
+                first_sig = None if notes.get("altloc") else _signature(model, chain_id)
         if rk:
+            xyz = _positions(model, chain_id)[np.asarray(raw, dtype=np.int64)]
             per_model.append((str(model.num), rk, ak, xyz))
     if not per_model:
         raise InputError(f"chain {chain_id!r} has no protein residues", path=path)
@@ -351,7 +380,7 @@ def _to_ensemble(st, path: str, chain: str | None) -> Ensemble:
     first_rk, first_ak = per_model[0][1], per_model[0][2]
     if all(m[1] == first_rk and m[2] == first_ak for m in per_model[1:]):
         res_keys, atom_keys = first_rk, first_ak
-        coords = np.array([m[3] for m in per_model], dtype=np.float64).reshape(len(per_model), -1, 3)
+        coords = np.stack([m[3] for m in per_model]) if first_ak else np.zeros((len(per_model), 0, 3))
     else:
         res_keys, atom_keys, coords = _union(per_model, warnings)
     coords = coords.reshape(len(per_model), len(atom_keys), 3)
