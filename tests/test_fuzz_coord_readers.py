@@ -2,7 +2,7 @@
 
 Mutations (delete, duplicate, swap lines; overwrite, insert, delete bytes; truncate) of a small
 real PDB excerpt (the first 150 ATOM lines of 1D3Z when SHIFTCHECK_REALDATA is set), else of a
-small PDB text written here from ideal geometry. The requirement (issue: bad input) is that no
+small PDB text written here from ideal geometry, and of the same excerpt as mmCIF (gemmi). The requirement (issue: bad input) is that no
 other exception type escapes the reader (common practice, no source).
 """
 from __future__ import annotations
@@ -35,7 +35,14 @@ def _base_text() -> str:
     return "\n".join(out) + "\nEND\n"
 
 
+def _as_mmcif(pdb_text: str) -> bytes:
+    import gemmi
+
+    return gemmi.read_pdb_string(pdb_text).make_mmcif_document().as_string().encode()
+
+
 BASE = _base_text().encode()
+BASES = {".pdb": BASE, ".cif": _as_mmcif(BASE.decode())}
 LINES = BASE.split(b"\n")
 
 line_op = st.tuples(st.sampled_from(["delete", "duplicate", "swap", "scramble"]),
@@ -82,7 +89,7 @@ def _mutate(data: bytes, lops, bops, rnd) -> bytes:
 def test_mutated_files_raise_only_project_errors(tmp_path_factory, lops, bops, seed, suffix):
     import random
 
-    data = _mutate(BASE, lops, bops, random.Random(seed))
+    data = _mutate(BASES[suffix], lops, bops, random.Random(seed))
     path = tmp_path_factory.mktemp("fuzz") / ("m" + suffix)
     path.write_bytes(data)
     try:
