@@ -141,3 +141,16 @@ def test_deposited_protons_kept(nmr_models):
         r = np.arange(ens.n_residues)
         assert np.array_equal(ens.xyz(r, name), out.xyz(r, name), equal_nan=True)
     assert out.built.sum() == out.n_atoms - ens.n_atoms
+
+
+def test_ha_without_cb_follows_l_chirality(nmr_models):
+    # residues whose CB is missing still get HA, on the L-amino-acid side (deposited HA of 1D3Z)
+    ens = _strip(nmr_models["1D3Z.pdb"])
+    keep = ens.atom_name != "CB"
+    nocb = dataclasses.replace(ens, atom_res=ens.atom_res[keep], atom_name=ens.atom_name[keep],
+                               element=ens.element[keep], built=ens.built[keep],
+                               coords=ens.coords[:, keep], _index=None)
+    out = add_hydrogens(nocb)
+    r = np.flatnonzero(ens.res_name != "GLY")
+    d = np.linalg.norm(out.xyz(r, "HA") - nmr_models["1D3Z.pdb"].xyz(r, "HA"), axis=-1)
+    assert np.nanmedian(d) < 0.1
