@@ -23,7 +23,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..errors import MappingError
-from ..shifts import THREE_TO_ONE, ShiftList
+from ..shifts import ONE_TO_THREE, THREE_TO_ONE, ShiftList
 from .ensemble import Ensemble
 
 __all__ = ["Mapping", "map_sequence", "DEFAULT_MIN_IDENTITY"]
@@ -53,7 +53,8 @@ class Mapping:
     offsets : list of str
         One readable line per segment, e.g. ``"Seq_ID 1-95 -> model 5-99 (offset +4)"``.
     mismatches : list of tuple
-        (Seq_ID, shift-list residue, model residue) for aligned but different residues.
+        (Seq_ID, shift-list residue (three-letter), model residue label such as "GLN 2") for
+        aligned but different residues.
     numbering : str
         Which numbering of the shift list equals the model's author numbering, if any.
     alignment : str
@@ -83,7 +84,8 @@ class Mapping:
         lines += ["  " + o for o in self.offsets]
         lines.append("  numbering: " + self.numbering)
         if self.mismatches:
-            lines.append("  mismatches: " + ", ".join(f"{s} {a}->{b}" for s, a, b in self.mismatches[:12])
+            lines.append("  mismatches (Seq_ID shift residue -> model residue): "
+                         + ", ".join(f"{s} {a} -> {b}" for s, a, b in self.mismatches[:12])
                          + (" ..." if len(self.mismatches) > 12 else ""))
         if self.unmapped_seq_ids:
             lines.append(f"  {len(self.unmapped_seq_ids)} residue(s) with shifts but no model residue: "
@@ -179,7 +181,8 @@ def map_sequence(shifts: ShiftList, ens: Ensemble, min_identity: float = DEFAULT
                            f"residues, below the threshold {min_identity}{where}", path=shifts.source)
     seq_to_res = {int(seq_ids[i]): int(j) for i, j in pairs}
     res_to_seq = {j: s for s, j in seq_to_res.items()}
-    mismatches = [(int(seq_ids[i]), seq[i], f"{ens.res_name[j]} {ens.res_seq[j]}{ens.res_icode[j]}")
+    mismatches = [(int(seq_ids[i]), ONE_TO_THREE.get(seq[i], "UNK"),
+                   f"{ens.res_name[j]} {ens.res_seq[j]}{ens.res_icode[j]}")
                   for (i, j), ok, k in zip(pairs, same, known) if k and not ok]
     with_shifts = sorted(set(int(s) for s in np.asarray(shifts.seq_id).tolist()))
     unmapped = [s for s in with_shifts if s not in seq_to_res]
