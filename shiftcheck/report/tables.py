@@ -1,0 +1,176 @@
+"""Write a :class:`~shiftcheck.score.scoring.ScoreResult` as ranking.csv, residues.csv and
+summary.json (columns and keys documented in docs/outputs.md). Each file is written to a
+temporary name in the target folder and renamed into place (os.replace).
+"""
+from __future__ import annotations
+
+import csv
+import datetime as _dt
+import hashlib
+import io
+import json
+import math
+import os
+import tempfile
+from pathlib import Path
+
+import numpy as np
+
+from .. import __version__
+from ..nuclei import ALL_CLASSES, BACKBONE
+
+__all__ = ["write_tables", "summary_dict", "ranking_rows", "residue_rows", "RANKING_COLUMNS",
+           "RESIDUE_COLUMNS", "sha256"]
+
+_STATS = ("rmsd", "mad", "r", "n")
+RANKING_COLUMNS = (["rank", "model", "score", "score_low", "score_high", "p_best"]
+                   + [f"{s}_{x}" for x in ALL_CLASSES for s in _STATS] + ["best_group"])
+RESIDUE_COLUMNS = ["model", "chain", "seq_id", "comp_id", "atom_id", "measured", "predicted",
+                   "residual", "z", "flag", "nucleus", "offset"]
+
+
+def sha256(path: str | os.PathLike) -> str | None:
+    """Hex SHA-256 of a file (None when it cannot be read)."""
+    try:
+        h = hashlib.sha256()
+        with open(path, "rb") as fh:
+            for block in iter(lambda: fh.read(1 << 20), b""):
+                h.update(block)
+        return h.hexdigest()
+    except OSError:
+        return None
+
+
+def _num(x, nd: int = 4):
+    if x is None:
+        return None
+    x = float(x)
+    return None if not math.isfinite(x) else round(x, nd)
+
+
+def _atomic_write(path: Path, text: str) -> None:
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", dir=str(path.parent))
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+        os.replace(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+
+
+def ranking_rows(res) -> list[dict]:
+    """One dict per entry, best first, with the ranking.csv columns."""
+    rk, comp = res.ranking, res.comparison
+    rows = []
+    for i in rk.order:
+        row = {"rank": int(rk.rank[i]), "model": comp.entries[i].name, "score": _num(rk.score[i]),
+               "score_low": _num(rk.low[i]), "score_high": _num(rk.high[i]),
+               "p_best": _num(rk.p_best[i]), "best_group": bool(rk.best_group[i])}
+        for x in ALL_CLASSES:
+            m = res.metrics[x]
+            row.update({f"rmsd_{x}": _num(m["rmsd"][i]), f"mad_{x}": _num(m["mad"][i]),
+                        f"r_{x}": _num(m["r"][i]), f"n_{x}": int(m["n"])})
+        rows.append(row)
+    return rows
+
+
+def residue_rows(res):
+    """Yield one dict per (entry, compared atom) with the residues.csv columns."""
+    comp = res.comparison
+    corr = res.correction
+    klass = res.outliers.klass
+    for e, entry in enumerate(comp.entries):
+        for j in range(len(comp)):
+            flagged = bool(res.outliers.flagged[e, j])
+            yield {"model": entry.name, "chain": entry.chain, "seq_id": int(comp.seq_id[j]),
+                   "comp_id": str(comp.comp_id[j]), "atom_id": str(comp.atom_id[j]),
+                   "nucleus": str(comp.nucleus[j]), "measured": _num(comp.measured[j]),
+                   "offset": _num(corr[j]), "predicted": _num(comp.predicted[e, j]),
+                   "residual": _num(res.residual[e, j]), "z": _num(res.z[e, j], 3),
+                   "flag": (klass[j] or "some") if flagged else ""}
+
+
+def _csv(rows, columns) -> str:
+    buf = io.StringIO()
+    w = csv.DictWriter(buf, fieldnames=columns, lineterminator="\n", extrasaction="ignore")
+    w.writeheader()
+    for r in rows:
+        w.writerow({k: ("" if v is None else v) for k, v in r.items()})
+    return buf.getvalue()
+
+
+def summary_dict(res, created: str | None = None) -> dict:
+    """The summary.json content (keys documented in docs/outputs.md)."""
+    comp, rk = res.comparison, res.ranking
+    shifts = res.shifts
+    inputs = {"shifts": {"path": str(Path(shifts.source).absolute()), "sha256": sha256(shifts.source),
+                         "list_id": shifts.list_id, "list_name": shifts.list_name,
+                         "entity_id": shifts.entity_id},
+              "models": [{"path": [str(Path(s).absolute()) for s in ens.sources][0] if ens.sources else "",
+                          "paths": [str(Path(s).absolute()) for s in ens.sources],
+                          "sha256": [sha256(s) for s in ens.sources][0] if ens.sources else None,
+                          "name": ens.name, "chain": ens.chain_id, "n_models": ens.n_models,
+                          "model_names": list(ens.model_names), "method": ens.method,
+                          "hydrogens_built": int(np.sum(ens.built))}
+                         for ens in res.ensembles]}
+    mapping = [{"ensemble": ens.name, "chain": ens.chain_id, "identity": _num(m.identity),
+                "coverage": _num(m.coverage), "offsets": "; ".join(m.offsets),
+                "mismatches": [list(x) for x in m.mismatches], "numbering": m.numbering}
+               for ens, m in zip(res.ensembles, res.mappings)]
+    metrics = {}
+    for i, entry in enumerate(comp.entries):
+        metrics[entry.name] = {x: {"rmsd": _num(res.metrics[x]["rmsd"][i]), "mad": _num(res.metrics[x]["mad"][i]),
+                                   "r": _num(res.metrics[x]["r"][i]), "n": int(res.metrics[x]["n"])}
+                               for x in ALL_CLASSES}
+    ranking = [{k: r[k] for k in ("rank", "model", "score", "score_low", "score_high", "p_best",
+                                  "best_group")} for r in ranking_rows(res)]
+    corr = res.correction
+    flags = []
+    for e in rk.order:
+        for j in np.flatnonzero(res.outliers.flagged[e]):
+            nuc = str(comp.nucleus[j])
+            flags.append({"model": comp.entries[e].name, "chain": comp.entries[e].chain,
+                          "seq_id": int(comp.seq_id[j]), "comp_id": str(comp.comp_id[j]),
+                          "atom_id": str(comp.atom_id[j]), "nucleus": nuc,
+                          "measured": _num(comp.measured[j]), "offset": _num(corr[j]),
+                          "predicted": _num(comp.predicted[e, j]), "residual": _num(res.residual[e, j]),
+                          "z": _num(res.z[e, j], 3), "class": str(res.outliers.klass[j]),
+                          "rule": f"|residual| > {res.outliers.k:g} x {res.expected_error[nuc]:g} ppm "
+                                  f"(expected error of {nuc})"})
+    left = {"counts": dict(sorted(comp.left_out.items())), "examples": comp.left_out_examples,
+            "n_compared": len(comp), "n_residues": comp.n_residues,
+            "n_stereo_swaps": res.n_stereo_swaps}
+    return {
+        "shiftcheck_version": __version__,
+        "created": created or _dt.datetime.now(_dt.timezone.utc).isoformat(timespec="seconds"),
+        "inputs": inputs,
+        "mapping": mapping,
+        "reref_mode": res.parameters["reref"],
+        "offsets": {k: v.as_dict() for k, v in res.offsets.items()},
+        "metrics": metrics,
+        "ranking": ranking,
+        "best_model": res.best_model,
+        "best_group": [comp.entries[i].name for i in rk.order if rk.best_group[i]],
+        "expected_error": {k: _num(v) for k, v in res.expected_error.items()},
+        "expected_error_source": res.expected_error_source,
+        "nuclei": list(BACKBONE) + [x for x in ALL_CLASSES if x not in BACKBONE],
+        "flags": flags,
+        "residue_summary": res.residue_summary,
+        "data_checks": [f.as_dict() for f in res.findings],
+        "secondary_structure": res.secondary,
+        "left_out": left,
+        "warnings": list(res.warnings),
+        "parameters": dict(res.parameters),
+    }
+
+
+def write_tables(res, outdir: str | os.PathLike) -> list[Path]:
+    """Write ranking.csv, residues.csv and summary.json into ``outdir`` (atomic per file)."""
+    out = Path(outdir)
+    paths = [out / "ranking.csv", out / "residues.csv", out / "summary.json"]
+    _atomic_write(paths[0], _csv(ranking_rows(res), RANKING_COLUMNS))
+    _atomic_write(paths[1], _csv(residue_rows(res), RESIDUE_COLUMNS))
+    _atomic_write(paths[2], json.dumps(summary_dict(res), indent=1, allow_nan=False) + "\n")
+    return paths

@@ -1,0 +1,274 @@
+"""The common atom set: the (residue, atom) pairs every scored model is compared on.
+
+A shift enters the comparison only when it is measured, belongs to a scored nucleus class
+(:func:`shiftcheck.nuclei.nucleus_class`), its residue maps onto every ensemble with the same
+residue type, and every model of every ensemble predicts it (non-NaN). Everything else is counted
+per reason in :attr:`Comparison.left_out`.
+
+Groups of equivalent protons (documented in docs/outputs.md):
+
+* Methyl protons are one comparison: measured = mean of the listed values (normally one value
+  repeated), predicted = mean of the three protons. The row is named after the first proton
+  (e.g. Ala ``HB1``, Val ``HG11``/``HG21``).
+* Phe/Tyr ring protons HD1/HD2 and HE1/HE2 are averaged on both sides (fast ring flips make
+  them equivalent); named ``HD1`` / ``HE1``.
+* Stereo pairs (Gly HA2/HA3, Val HG1*/HG2*, Leu HD1*/HD2*) whose assignment is not marked
+  stereospecific (ambiguity code other than 1) are compared under the better of the two
+  assignments, chosen per model (:func:`resolve_stereo`). A lone member of such a pair is
+  compared with the mean prediction of both members.
+"""
+from __future__ import annotations
+
+from collections import Counter
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..nuclei import METHYL_PROTONS, nucleus_class
+
+__all__ = ["Comparison", "Entry", "build_comparison", "resolve_stereo", "group_name", "STEREO_PAIRS"]
+
+# Methyl groups: IUPAC names of the three protons -> group name (first proton)
+_METHYL_GROUP: dict[tuple[str, str], str] = {}
+for _res, _names in METHYL_PROTONS.items():
+    for _k in range(0, len(_names), 3):
+        for _n in _names[_k:_k + 3]:
+            _METHYL_GROUP[(_res, _n)] = _names[_k]
+_RING_PAIR = {("PHE", "HD2"): "HD1", ("PHE", "HE2"): "HE1", ("TYR", "HD2"): "HD1", ("TYR", "HE2"): "HE1",
+              ("PHE", "HD1"): "HD1", ("PHE", "HE1"): "HE1", ("TYR", "HD1"): "HD1", ("TYR", "HE1"): "HE1"}
+#: Stereo pairs (group names) compared under the better of the two assignments.
+STEREO_PAIRS: dict[str, tuple[str, str]] = {"GLY": ("HA2", "HA3"), "VAL": ("HG11", "HG21"),
+                                            "LEU": ("HD11", "HD21")}
+
+
+def group_name(comp_id: str, atom_id: str) -> str:
+    """Name of the comparison row an atom belongs to (itself, or its methyl/ring group)."""
+    key = (comp_id, atom_id)
+    return _METHYL_GROUP.get(key) or _RING_PAIR.get(key) or atom_id
+
+
+def _members(comp_id: str, gname: str) -> tuple[str, ...]:
+    for names in (METHYL_PROTONS.get(comp_id, ()),):
+        for k in range(0, len(names), 3):
+            if names[k] == gname:
+                return names[k:k + 3]
+    if (comp_id, gname) in _RING_PAIR and comp_id in ("PHE", "TYR") and gname in ("HD1", "HE1"):
+        return (gname, gname[:-1] + "2")
+    return (gname,)
+
+
+@dataclass
+class Entry:
+    """One scored model: a model of an ensemble, or an ensemble-mean prediction (``name#mean``)."""
+
+    name: str
+    ensemble: int
+    model: int          # model index in the ensemble; -1 for the ensemble mean
+    chain: str
+
+    @property
+    def is_mean(self) -> bool:
+        return self.model < 0
+
+
+@dataclass
+class Comparison:
+    """Measured and predicted shifts on the common atom set.
+
+    Attributes
+    ----------
+    seq_id, comp_id, atom_id, nucleus, isotope : np.ndarray, shape (n,)
+        Shift-list Seq_ID, residue name, row name (see module docstring), scoring class,
+        'H'/'C'/'N'.
+    measured : np.ndarray (n,)
+        As in the file (group mean for methyl/ring groups), no referencing correction.
+    ambiguous : np.ndarray of bool (n,)
+        Stereo assignment not marked stereospecific.
+    residue : np.ndarray of int (n,)
+        Index of the residue (0..n_res-1) for resampling.
+    predicted : np.ndarray (n_entries, n)
+    entries : list of Entry
+    left_out : dict reason -> count (shift-list atoms)
+    left_out_examples : dict reason -> list of short labels (at most 10 each)
+    """
+
+    seq_id: np.ndarray
+    comp_id: np.ndarray
+    atom_id: np.ndarray
+    nucleus: np.ndarray
+    isotope: np.ndarray
+    measured: np.ndarray
+    ambiguous: np.ndarray
+    residue: np.ndarray
+    predicted: np.ndarray
+    entries: list[Entry]
+    left_out: dict[str, int] = field(default_factory=dict)
+    left_out_examples: dict[str, list[str]] = field(default_factory=dict)
+
+    def __len__(self) -> int:
+        return int(self.measured.shape[0])
+
+    @property
+    def n_residues(self) -> int:
+        return int(self.residue.max()) + 1 if len(self) else 0
+
+    @property
+    def names(self) -> list[str]:
+        return [e.name for e in self.entries]
+
+    @property
+    def is_mean(self) -> np.ndarray:
+        return np.array([e.is_mean for e in self.entries], dtype=bool)
+
+
+def _is_placeholder(v: np.ndarray, placeholders) -> np.ndarray:
+    bad = ~np.isfinite(v)
+    for p in placeholders:
+        bad |= v == p
+    return bad
+
+
+def build_comparison(shifts, ensembles, mappings, predictions, placeholders=(0.0, 999.0, -999.0),
+                     include_mean: bool = True) -> Comparison:
+    """Assemble the common atom set of all models of all ensembles.
+
+    Parameters
+    ----------
+    shifts : ShiftList
+    ensembles : list of Ensemble
+    mappings : list of Mapping
+        ``mappings[i].seq_to_res`` maps Seq_ID -> residue index of ``ensembles[i]``.
+    predictions : list of Prediction
+        One per ensemble (values of shape (n_models, n)).
+    placeholders : sequence of float
+        Values meaning "not measured"; such shifts are left out.
+    include_mean : bool
+        Add a ``name#mean`` entry (mean prediction over models) for multi-model ensembles.
+
+    Returns
+    -------
+    Comparison
+    """
+    left: Counter = Counter()
+    examples: dict[str, list[str]] = {}
+
+    def leave(reason: str, label: str, count: int = 1) -> None:
+        left[reason] += count
+        ex = examples.setdefault(reason, [])
+        if len(ex) < 10:
+            ex.append(label)
+
+    # --- measured groups -------------------------------------------------------------
+    groups: dict[tuple[int, str], dict] = {}
+    seen: set[tuple[int, str]] = set()
+    for sid, comp, atom, val, amb in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id, shifts.value,
+                                         shifts.ambiguity):
+        sid, comp, atom = int(sid), str(comp), str(atom)
+        label = f"{sid} {comp} {atom}"
+        cls = nucleus_class(comp, atom)
+        if cls is None:
+            leave("not a scored nucleus", label)
+            continue
+        if (sid, atom) in seen:
+            leave("duplicated atom (first value kept)", label)
+            continue
+        seen.add((sid, atom))
+        if _is_placeholder(np.array([float(val)]), placeholders)[0]:
+            leave("placeholder or missing value", label)
+            continue
+        g = groups.setdefault((sid, group_name(comp, atom)),
+                              {"comp": comp, "cls": cls, "values": [], "amb": []})
+        g["values"].append(float(val))
+        g["amb"].append(int(amb))
+    keys = list(groups)
+    meas = np.array([np.mean(groups[k]["values"]) for k in keys]) if keys else np.zeros(0)
+    amb = np.array([any(a != 1 for a in groups[k]["amb"]) for k in keys], dtype=bool)
+    count = np.array([len(groups[k]["values"]) for k in keys], dtype=int)
+    comp = np.array([groups[k]["comp"] for k in keys], dtype=object)
+    present = {k for k in keys}
+    members = []
+    for (sid, g), c, a in zip(keys, comp, amb):
+        mem = _members(c, g)
+        pair = STEREO_PAIRS.get(c)
+        if pair and g in pair and a:
+            other = pair[1] if g == pair[0] else pair[0]
+            if (sid, other) not in present:   # lone member of an ambiguous pair: mean of both
+                mem = mem + _members(c, other)
+        members.append(mem)
+
+    # --- predictions per ensemble ----------------------------------------------------
+    keep = np.ones(len(keys), dtype=bool)
+    blocks, entries = [], []
+    for ei, (ens, mp, pred) in enumerate(zip(ensembles, mappings, predictions)):
+        col = {(int(r), str(a)): j for j, (r, a) in enumerate(zip(pred.res_index, pred.atom_id))}
+        vals = np.full((pred.n_models, len(keys)), np.nan)
+        for i, ((sid, g), c, mem) in enumerate(zip(keys, comp, members)):
+            if not keep[i]:
+                continue
+            res = mp.seq_to_res.get(sid)
+            label = f"{sid} {c} {g}"
+            if res is None:
+                keep[i] = False
+                leave("residue not in every model", label, count[i])
+                continue
+            if str(ens.res_name[res]) != c:
+                keep[i] = False
+                leave("residue type differs in a model", label, count[i])
+                continue
+            js = [col[(res, m)] for m in mem if (res, m) in col]
+            if not js:
+                keep[i] = False
+                leave("not predicted", label, count[i])
+                continue
+            v = pred.values[:, js].mean(axis=1)
+            if not np.all(np.isfinite(v)):
+                keep[i] = False
+                leave("not predicted in every model", label, count[i])
+                continue
+            vals[:, i] = v
+        names = list(pred.model_names) or [f"{ens.name}#{k + 1}" for k in range(pred.n_models)]
+        for m in range(pred.n_models):
+            entries.append(Entry(names[m], ei, m, ens.chain_id))
+        blocks.append(vals)
+        if include_mean and pred.n_models > 1:
+            entries.append(Entry(f"{ens.name}#mean", ei, -1, ens.chain_id))
+            blocks.append(vals.mean(axis=0, keepdims=True))
+    predicted = np.vstack(blocks)[:, keep] if blocks else np.zeros((0, int(keep.sum())))
+    sel = [k for k, ok in zip(keys, keep) if ok]
+    seq = np.array([k[0] for k in sel], dtype=int)
+    _, residue = np.unique(seq, return_inverse=True)
+    cls = np.array([groups[k]["cls"] for k in sel], dtype=object)
+    return Comparison(seq_id=seq, comp_id=comp[keep], atom_id=np.array([k[1] for k in sel], dtype=object),
+                      nucleus=cls, isotope=np.array([c[0] for c in cls], dtype=object),
+                      measured=meas[keep], ambiguous=amb[keep], residue=residue.astype(int),
+                      predicted=predicted, entries=entries, left_out=dict(left),
+                      left_out_examples=examples)
+
+
+def resolve_stereo(comp: Comparison) -> int:
+    """Swap predictions of ambiguous stereo pairs where the swapped assignment fits better.
+
+    Decided per entry (model) by the sum of squared residuals of the pair; a common referencing
+    offset cancels from this comparison, so it may be done before referencing. Modifies
+    ``comp.predicted`` in place and returns the number of (entry, pair) swaps made.
+    """
+    key = {(int(s), str(a)): i for i, (s, a) in enumerate(zip(comp.seq_id, comp.atom_id))}
+    ia, ib = [], []
+    for i, (s, c, a, am) in enumerate(zip(comp.seq_id, comp.comp_id, comp.atom_id, comp.ambiguous)):
+        pair = STEREO_PAIRS.get(str(c))
+        if pair and str(a) == pair[0]:
+            j = key.get((int(s), pair[1]))
+            if j is not None and (am or comp.ambiguous[j]):
+                ia.append(i)
+                ib.append(j)
+    if not ia:
+        return 0
+    ia, ib = np.array(ia), np.array(ib)
+    ma, mb = comp.measured[ia], comp.measured[ib]
+    pa, pb = comp.predicted[:, ia], comp.predicted[:, ib]
+    keep_cost = (ma - pa) ** 2 + (mb - pb) ** 2
+    swap_cost = (ma - pb) ** 2 + (mb - pa) ** 2
+    swap = swap_cost < keep_cost
+    comp.predicted[:, ia] = np.where(swap, pb, pa)
+    comp.predicted[:, ib] = np.where(swap, pa, pb)
+    return int(swap.sum())

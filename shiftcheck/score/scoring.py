@@ -1,0 +1,207 @@
+"""Score candidate models against measured shifts: the library entry point of ``shiftcheck score``.
+
+Pipeline: map the shift list onto every ensemble -> predict every model -> common atom set
+(:mod:`.common`) -> stereo pairs resolved -> referencing offsets (:mod:`.referencing`) ->
+residuals, normalised residuals z = r / sigma, robust loss -> per-nucleus metrics
+(:mod:`.metrics`) -> paired-bootstrap ranking (:mod:`.ranking`) -> outlier atoms
+(:mod:`.outliers`) -> data checks (:mod:`.sanity`) and secondary structure (:mod:`.secondary`).
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..errors import InputError
+from ..nuclei import ALL_CLASSES
+from ._constants import scoring_constants
+from .common import Comparison, build_comparison, resolve_stereo
+from .metrics import combined_score, huber_q, per_nucleus_metrics
+from .outliers import Outliers, find_outliers, residue_summary
+from .ranking import Ranking, per_residue_sums, rank_models
+from .referencing import Offset, estimate_offsets, residue_weights
+from .sanity import Finding, check_against_models, check_shifts
+
+__all__ = ["ScoreResult", "score", "expected_errors"]
+
+
+@dataclass
+class ScoreResult:
+    """Everything ``shiftcheck score`` computes (written out by :mod:`shiftcheck.report.tables`).
+
+    Arrays over entries (models and ``name#mean`` entries) follow ``comparison.entries``.
+    """
+
+    shifts: object
+    ensembles: list
+    mappings: list
+    comparison: Comparison
+    offsets: dict[str, Offset]
+    residual: np.ndarray          # (n_entries, n): measured - correction - predicted
+    z: np.ndarray                 # residual / sigma
+    score: np.ndarray
+    metrics: dict[str, dict]
+    ranking: Ranking
+    outliers: Outliers
+    residue_summary: list[dict]
+    findings: list[Finding]
+    secondary: dict[str, dict]
+    expected_error: dict[str, float]
+    expected_error_source: str
+    parameters: dict
+    n_stereo_swaps: int = 0
+    warnings: list[str] = field(default_factory=list)
+
+    @property
+    def best_model(self) -> str:
+        return self.comparison.entries[int(self.ranking.order[0])].name
+
+    @property
+    def correction(self) -> np.ndarray:
+        """Offset subtracted from each measured shift (n,)."""
+        return np.array([self.offsets[i].correction for i in self.comparison.isotope], dtype=float)
+
+
+def expected_errors(params: dict | None) -> tuple[dict[str, float], str]:
+    """Expected error per nucleus class from the parameter file, else the documented fallback."""
+    fb = scoring_constants()["expected_error_fallback"]
+    out = {c: float(fb[c]) for c in ALL_CLASSES}
+    src = "fallback: " + fb["_source"]
+    ee = (params or {}).get("expected_error") if isinstance(params, dict) else None
+    if isinstance(ee, dict):
+        vals = ee.get("values", ee)
+        got = {}
+        for c in ALL_CLASSES:
+            v = vals.get(c)
+            v = v.get("value") if isinstance(v, dict) else v
+            if isinstance(v, (int, float)) and v > 0:
+                got[c] = float(v)
+        if got:
+            out.update(got)
+            src = "parameter file: " + str(ee.get("source", "expected_error"))
+            missing = [c for c in ALL_CLASSES if c not in got]
+            if missing:
+                src += f" (fallback for {', '.join(missing)})"
+    return out, src
+
+
+def score(shifts, ensembles, mappings=None, predictions=None, *, params=None, ring_model=None,
+          reref: str = "auto", k_sigma: float | None = None, n_boot: int | None = None,
+          seed: int | None = None, include_mean: bool = True, min_identity: float | None = None,
+          progress=None) -> ScoreResult:
+    """Score every model of every ensemble against a shift list.
+
+    Parameters
+    ----------
+    shifts : ShiftList
+    ensembles : list of Ensemble
+    mappings : list of Mapping, optional
+        Default: :func:`shiftcheck.structure.mapping.map_sequence` for each ensemble
+        (raises MappingError for shifts of another protein).
+    predictions : list of Prediction, optional
+        Default: ``Predictor(params, ring_model).predict(ens, shifts.conditions)``.
+    params, ring_model
+        Predictor parameters (path, dict or None for the shipped defaults) and ring model.
+    reref : {'auto', 'off', 'force'}
+        Referencing correction (see :mod:`shiftcheck.score.referencing`).
+    k_sigma : float
+        Outlier threshold in units of the expected error (default 3).
+    n_boot, seed : int
+        Bootstrap replicates (default 1000) and seed (default in scoring.json).
+    include_mean : bool
+        Also score each multi-model ensemble's mean prediction as ``name#mean``.
+    progress : callable(done, total), optional
+        Called after each ensemble is predicted.
+
+    Returns
+    -------
+    ScoreResult
+
+    Raises
+    ------
+    MappingError
+        Shifts of another protein.
+    InputError
+        No atom is common to the shift list and every model.
+    """
+    const = scoring_constants()
+    k_sigma = const["k_sigma"]["value"] if k_sigma is None else float(k_sigma)
+    n_boot = const["n_boot"]["value"] if n_boot is None else int(n_boot)
+    seed = const["seed"]["value"] if seed is None else int(seed)
+    if not ensembles:
+        raise InputError("no models given")
+    if mappings is None:
+        from ..structure.mapping import DEFAULT_MIN_IDENTITY, map_sequence
+
+        thr = DEFAULT_MIN_IDENTITY if min_identity is None else min_identity
+        mappings = [map_sequence(shifts, ens, min_identity=thr) for ens in ensembles]
+    pdict, params_source, used_ring = params if isinstance(params, dict) else None, "", ring_model
+    if predictions is None:
+        from ..predict.model import Predictor
+
+        predictor = Predictor(params, ring_model)
+        pdict, used_ring = predictor.params, predictor.ring_model
+        params_source = str(pdict.get("_path", "<dict>"))
+        predictions = []
+        for i, ens in enumerate(ensembles):
+            predictions.append(predictor.predict(ens, shifts.conditions))
+            if progress:
+                progress(i + 1, len(ensembles))
+    else:
+        params_source = predictions[0].params_source if predictions else ""
+    sigma_map, sigma_src = expected_errors(pdict)
+
+    comp = build_comparison(shifts, ensembles, mappings, predictions, include_mean=include_mean)
+    if len(comp) == 0:
+        why = ", ".join(f"{k} {v}" for k, v in sorted(comp.left_out.items())) or "no shifts"
+        raise InputError(f"no atom is common to the shift list and every model ({why})",
+                         path=shifts.source)
+    swaps = resolve_stereo(comp)
+    rng = np.random.default_rng(seed)
+    W = residue_weights(comp.n_residues, n_boot, rng)
+    offsets = estimate_offsets(comp, mode=reref, n_boot=n_boot, seed=seed, weights=W)
+    corr = np.array([offsets[i].correction for i in comp.isotope], dtype=float)
+    meas_ref = comp.measured - corr
+    residual = meas_ref[None, :] - comp.predicted
+    sigma = np.array([sigma_map[c] for c in comp.nucleus], dtype=float)
+    z = residual / sigma[None, :]
+    q = huber_q(z, float(const["huber_h"]["value"]))
+    S, counts = per_residue_sums(q, comp.residue, comp.n_residues)
+    ranking = rank_models(S, counts, W, p_group=float(const["p_group"]["value"]))
+    metrics = per_nucleus_metrics(meas_ref, comp.predicted, comp.nucleus)
+    out = find_outliers(z, comp.is_mean, k_sigma)
+    best = int(ranking.order[0])
+    rsum = residue_summary(comp, z, out, best)
+    findings = check_against_models(check_shifts(shifts), ensembles, mappings)
+    secondary = _secondary(ensembles, mappings)
+    warnings = list(shifts.warnings)
+    for ens in ensembles:
+        warnings += [f"{ens.name}: {w}" for w in ens.warnings]
+    for iso, off in offsets.items():
+        if off.n and np.isfinite(off.low) and (off.low > 0 or off.high < 0) and not off.applied \
+                and reref == "auto":
+            warnings.append(f"{iso} offset {off.value:+.2f} ppm is significant but below the "
+                            f"{off.threshold} ppm threshold: not corrected")
+    parameters = {"params_source": params_source, "ring_model": used_ring, "k_sigma": k_sigma,
+                  "n_boot": n_boot, "seed": seed, "reref": reref, "include_mean": include_mean,
+                  "huber_h": float(const["huber_h"]["value"]), "p_group": float(const["p_group"]["value"])}
+    return ScoreResult(shifts=shifts, ensembles=list(ensembles), mappings=list(mappings), comparison=comp,
+                       offsets=offsets, residual=residual, z=z, score=combined_score(q), metrics=metrics,
+                       ranking=ranking, outliers=out, residue_summary=rsum, findings=findings,
+                       secondary=secondary, expected_error=sigma_map, expected_error_source=sigma_src,
+                       parameters=parameters, n_stereo_swaps=swaps, warnings=warnings)
+
+
+def _secondary(ensembles, mappings) -> dict[str, dict]:
+    """Secondary structure of every model; residues in the shift list's numbering (Seq_ID)."""
+    from .secondary import METHOD, assign_secondary
+
+    out = {}
+    for ens, mp in zip(ensembles, mappings):
+        ss = assign_secondary(ens)
+        seq = [mp.res_to_seq.get(r) for r in range(ens.n_residues)]
+        keep = [r for r, s in enumerate(seq) if s is not None]
+        for m, name in enumerate(ens.model_names):
+            out[name] = {"seq_id": [int(seq[r]) for r in keep], "ss": "".join(ss[m][r] for r in keep),
+                         "method": METHOD}
+    return out
