@@ -1,0 +1,307 @@
+"""Read an assigned chemical-shift list from any supported file: :func:`read_shifts`.
+
+Formats, told apart by content (not by file name):
+
+* NMR-STAR 3.x (tags ``_Atom_chem_shift.*``) - :mod:`shiftcheck.io.star` (pynmrstar);
+* NMR-STAR 2.1 (``_Chem_shift_value``, ``_Saveframe_category``) - :mod:`shiftcheck.io.star21`;
+* plain tables (seq_id, residue, atom, shift [, error]) - :mod:`shiftcheck.io.tables`.
+
+Plain or gzip-compressed. Whatever the format, the rows go through
+:func:`build_shift_list`, which normalises names (IUPAC 1998, Markley et al. 1998, Pure Appl.
+Chem. 70:117), expands pseudo atoms, skips placeholder values ('.', '?') with a warning and
+refuses non-numeric values and values outside -10..300 ppm (no protein 1H, 13C or 15N shift lies
+outside; common practice, no source) with the file line.
+"""
+from __future__ import annotations
+
+import gzip
+import math
+import os
+import zlib
+from collections import defaultdict
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+from ..shifts import ONE_TO_THREE, SampleConditions, ShiftList
+from ..structure.names import expand_residue_atom_names, normalise_comp_id
+
+__all__ = ["read_shifts", "read_text", "detect_format", "build_shift_list", "choose",
+           "conditions_from_rows", "VALUE_RANGE_PPM"]
+
+#: Plausible numeric window for any protein shift, ppm (common practice, no source).
+VALUE_RANGE_PPM = (-10.0, 300.0)
+_MISSING = {"", ".", "?", "-", "na", "n/a", "nan", "none"}
+
+
+def read_shifts(path: str | os.PathLike, list_id: str | None = None,
+                entity_id: str | None = None) -> ShiftList:
+    """Read one assigned chemical-shift list.
+
+    Parameters
+    ----------
+    path : path-like
+        NMR-STAR 3.x, NMR-STAR 2.1 or plain table; ``.gz`` (or gzip content) accepted.
+    list_id : str, optional
+        Which assigned shift list (ID or save frame name). Default: the only one, else the
+        largest, with a warning naming the others.
+    entity_id : str, optional
+        Which entity (Entity_ID, Entity_assembly_ID, or 2.1 component name). Default: the
+        entity with most shifts, with a warning.
+
+    Returns
+    -------
+    ShiftList
+
+    Raises
+    ------
+    InputError
+        Missing, unreadable, binary or empty file; no shift loop; bad values (one line, with
+        path and line where known).
+    """
+    p = str(path)
+    text = read_text(p)
+    fmt = detect_format(text)
+    try:
+        if fmt == "star3":
+            from .star import read_star3
+            return read_star3(text, p, list_id=list_id, entity_id=entity_id)
+        if fmt == "star21":
+            from .star21 import read_star21
+            return read_star21(text, p, list_id=list_id, entity_id=entity_id)
+        if fmt == "star-noshifts":
+            raise InputError("no assigned chemical shift loop found (STAR file without "
+                             "_Atom_chem_shift or _Chem_shift_value tags)", path=p)
+        from .tables import read_table
+        return read_table(text, p)
+    except RecursionError:  # pragma: no cover - pathological nesting
+        raise InputError("file structure too deeply nested to read", path=p) from None
+
+
+def read_text(path: str) -> str:
+    """File contents as text; gzip is unpacked; refuses missing, empty and binary files."""
+    p = Path(path)
+    if not p.exists():
+        raise InputError("file not found", path=path)
+    if p.is_dir():
+        raise InputError("is a directory, not a shift file", path=path)
+    try:
+        data = p.read_bytes()
+    except OSError as e:
+        raise InputError(f"cannot read file ({e.strerror or e})", path=path) from None
+    if data[:2] == b"\x1f\x8b":
+        try:
+            data = gzip.decompress(data)
+        except (OSError, EOFError, zlib.error) as e:
+            raise InputError(f"broken gzip file ({e})", path=path) from None
+    if not data.strip():
+        raise InputError("file is empty", path=path)
+    if b"\0" in data:
+        raise InputError("binary data (NUL bytes), not a text shift file", path=path)
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError:
+        text = data.decode("latin-1")
+        bad = sum(1 for c in text if ord(c) < 32 and c not in "\t\n\r\f" or 0x7f <= ord(c) < 0xa0)
+        if bad > max(2, len(text) // 100):
+            raise InputError("binary data (not UTF-8 or Latin-1 text), not a shift file",
+                             path=path) from None
+    return text.replace("\r\n", "\n").replace("\r", "\n")
+
+
+def detect_format(text: str) -> str:
+    """'star3', 'star21', 'star-noshifts' or 'table', from the content."""
+    low = text.lower()
+    if "_atom_chem_shift." in low:
+        return "star3"
+    if "_chem_shift_value" in low:
+        return "star21"
+    stripped = [ln.strip().lower() for ln in text.splitlines()[:2000] if ln.strip()
+                and not ln.lstrip().startswith("#")]
+    if any(s.startswith(("data_", "save_", "loop_", "_")) for s in stripped[:50]) or \
+            "_saveframe_category" in low:
+        return "star-noshifts"
+    return "table"
+
+
+def conditions_from_rows(rows) -> SampleConditions:
+    """Temperature (K) and pH from (type, value, units) rows of a sample-conditions loop.
+
+    Temperatures in degrees Celsius (units 'C', '°C', 'degC', 'Celsius') are converted to K
+    (T/K = t/°C + 273.15). Types are matched exactly ('temperature', 'pH'), so e.g.
+    'temperature controller setting' is ignored.
+    """
+    cond = SampleConditions()
+    for typ, val, unit in rows:
+        t = str(typ).strip().lower()
+        try:
+            v = float(val)
+        except (TypeError, ValueError):
+            continue
+        if not math.isfinite(v):
+            continue
+        u = str(unit).strip().lower().replace("°", "").replace("º", "")
+        if t == "temperature" and cond.temperature_K is None:
+            celsius = u in ("c", "degc", "celsius", "deg c", "degrees c") or (u in ("", ".", "?")
+                                                                            and v < 150)
+            cond.temperature_K = v + 273.15 if celsius else v
+        elif t == "ph" and cond.pH is None and 0 <= v <= 14:
+            cond.pH = v
+    return cond
+
+
+def choose(descr: list[tuple[str, int, list[str]]], wanted: str | None, what: str, path: str,
+           warnings: list[str]) -> tuple[int, list[str]]:
+    """Pick one of several candidates (description, size, accepted names).
+
+    Returns the index and the descriptions of the others. With ``wanted`` None: the only
+    one, else the largest with a warning naming the others.
+    """
+    if wanted is not None:
+        for k, (_, _, names) in enumerate(descr):
+            if str(wanted) in names:
+                return k, [d for j, (d, _, _) in enumerate(descr) if j != k]
+        raise InputError(f"no {what} {wanted!r}; present: " + "; ".join(d for d, _, _ in descr),
+                         path=path)
+    k = max(range(len(descr)), key=lambda j: descr[j][1])
+    others = [d for j, (d, _, _) in enumerate(descr) if j != k]
+    if others:
+        warnings.append(f"{len(descr)} {what}s in the file; using {descr[k][0]}; "
+                        f"not used: {'; '.join(others)}")
+    return k, others
+
+
+def _int(v: str, what: str, path: str, line: int) -> int:
+    try:
+        f = float(v)
+        if not math.isfinite(f) or f != int(f) or abs(f) > 1e9:
+            raise ValueError
+        return int(f)
+    except (TypeError, ValueError):
+        raise InputError(f"{what} {str(v)[:20]!r} is not an integer", path=path, line=line) from None
+
+
+def build_shift_list(path: str, cols: dict[str, list[str] | None], lines: list[int], *,
+                     list_id: str, list_name: str, entity_id: str,
+                     sequence: list[tuple[object, str]] | None, conditions: SampleConditions,
+                     other_lists: list[str], warnings: list[str]) -> ShiftList:
+    """Turn raw string columns into a :class:`ShiftList` (shared by all readers).
+
+    ``cols`` maps seq_id, auth_seq_id, comp_id, atom_id, atom_type, value, error, ambiguity to
+    string lists (None where the file lacks the column); ``lines`` gives each row's file line.
+    ``sequence`` is [(seq_id, comp_id)] of the entity, or None to rebuild it from the rows.
+    """
+    n = len(cols["value"])
+    get = {k: (v if v is not None else [None] * n) for k, v in cols.items()}
+    lines = list(lines) + [0] * (n - len(lines))
+    rows = []  # (seq, auth, comp, raw_atom, type, value, err, amb, line)
+    missing = []
+    for i in range(n):
+        ln = lines[i]
+        vs = str(get["value"][i]).strip()
+        if vs.lower() in _MISSING:
+            missing.append(ln)
+            continue
+        try:
+            val = float(vs)
+        except ValueError:
+            raise InputError(f"shift value {vs[:20]!r} is not a number", path=path, line=ln) from None
+        if not (VALUE_RANGE_PPM[0] <= val <= VALUE_RANGE_PPM[1]):
+            raise InputError(f"shift value {vs[:20]} ppm is outside {VALUE_RANGE_PPM[0]:g}.."
+                             f"{VALUE_RANGE_PPM[1]:g} ppm", path=path, line=ln)
+        s_raw = get["seq_id"][i]
+        a_raw = get["auth_seq_id"][i]
+        if s_raw is None or str(s_raw).strip() in _MISSING:
+            s_raw = a_raw
+        seq = _int(s_raw, "residue number", path, ln)
+        auth = seq if a_raw is None or str(a_raw).strip() in _MISSING else _int(a_raw, "author residue number", path, ln)
+        comp = normalise_comp_id(str(get["comp_id"][i]))
+        atom = str(get["atom_id"][i]).strip().upper()
+        if not comp or comp in _MISSING or not atom or atom.lower() in _MISSING:
+            raise InputError("residue or atom name missing", path=path, line=ln)
+        es = str(get["error"][i]).strip() if get["error"][i] is not None else "."
+        try:
+            err = float(es)
+        except ValueError:
+            err = math.nan
+        am = str(get["ambiguity"][i]).strip() if get["ambiguity"][i] is not None else "."
+        try:
+            amb = int(float(am)) if am not in _MISSING else 0
+        except (ValueError, OverflowError):
+            amb = 0
+        typ = str(get["atom_type"][i]).strip().upper() if get["atom_type"][i] is not None else ""
+        rows.append((seq, auth, comp, atom, typ, val, err, amb, ln))
+    if not rows:
+        if missing:
+            raise InputError(f"all {len(missing)} shift values are missing ('.' or '?')", path=path)
+        raise InputError("the shift list is empty", path=path)
+    if missing:
+        warnings.append(f"{len(missing)} rows without a shift value ('.' or '?') skipped "
+                        f"(first at line {missing[0]})")
+    # names per residue (old geminal numbering and pseudo atoms need the residue's whole set)
+    by_res: dict[tuple[int, str], list[int]] = defaultdict(list)
+    for k, r in enumerate(rows):
+        by_res[(r[0], r[2])].append(k)
+    expanded: list[tuple] = []
+    seen: dict[tuple[int, str], int] = {}
+    dups = []
+    for (seq, comp), idx in by_res.items():
+        names = expand_residue_atom_names(comp, [rows[k][3] for k in idx])
+        for k, group in zip(idx, names):
+            r = rows[k]
+            for atom in group:
+                key = (seq, atom)
+                if key in seen:
+                    dups.append(f"{comp} {seq} {atom} (lines {seen[key]}, {r[8]})")
+                    continue
+                seen[key] = r[8]
+                typ = r[4] if r[4] and r[4] not in _MISSING and len(group) == 1 else atom[:1]
+                expanded.append((seq, r[1], comp, atom, typ, r[5], r[6], r[7], r[8]))
+    if dups:
+        warnings.append(f"{len(dups)} duplicated atoms, first value kept: " + "; ".join(dups[:5])
+                        + (" ..." if len(dups) > 5 else ""))
+    expanded.sort(key=lambda r: (r[0], r[8]))
+    arr = list(zip(*expanded))
+    seq_ids, seq_comps = _sequence(sequence, arr[0], arr[2], path, warnings)
+    return ShiftList(
+        source=path, list_id=list_id, list_name=list_name, entity_id=entity_id,
+        sequence=tuple(seq_comps), sequence_seq_ids=np.asarray(seq_ids, dtype=np.int64),
+        seq_id=np.asarray(arr[0], dtype=np.int64), auth_seq_id=np.asarray(arr[1], dtype=np.int64),
+        comp_id=np.asarray(arr[2], dtype=str), atom_id=np.asarray(arr[3], dtype=str),
+        atom_type=np.asarray(arr[4], dtype=str), value=np.asarray(arr[5], dtype=np.float64),
+        error=np.asarray(arr[6], dtype=np.float64), ambiguity=np.asarray(arr[7], dtype=np.int64),
+        line=np.asarray(arr[8], dtype=np.int64), conditions=conditions,
+        other_lists=list(other_lists), warnings=warnings)
+
+
+def _sequence(sequence, seq_of_rows, comp_of_rows, path, warnings):
+    """Entity sequence [(seq_id, comp)] checked against the rows, or rebuilt from them."""
+    if sequence:
+        out: dict[int, str] = {}
+        for s, c in sequence:
+            try:
+                sid = int(str(s).strip())
+            except ValueError:
+                continue
+            c = str(c).strip().upper()
+            c = ONE_TO_THREE.get(c, "UNK") if len(c) == 1 else normalise_comp_id(c)
+            out.setdefault(sid, c)
+        if out:
+            clash = sorted({(s, c) for s, c in zip(seq_of_rows, comp_of_rows)
+                            if s in out and out[s] != c and out[s] != "UNK"})
+            if clash:
+                warnings.append(f"{len(clash)} shift rows name another residue than the entity "
+                                f"sequence, e.g. {clash[0][1]} {clash[0][0]} vs {out[clash[0][0]]}")
+            for s, c in zip(seq_of_rows, comp_of_rows):
+                out.setdefault(int(s), c)
+            ids = sorted(out)
+            return ids, [out[i] for i in ids]
+    res: dict[int, str] = {}
+    for s, c in zip(seq_of_rows, comp_of_rows):
+        res.setdefault(int(s), c)
+    lo, hi = min(res), max(res)
+    if hi - lo > 100000:
+        raise InputError(f"residue numbers span {lo}..{hi}: not one protein chain", path=path)
+    ids = list(range(lo, hi + 1))
+    return ids, [res.get(i, "UNK") for i in ids]

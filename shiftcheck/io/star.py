@@ -1,0 +1,185 @@
+"""NMR-STAR 3.x assigned chemical shifts, read with pynmrstar.
+
+pynmrstar (the BMRB's reference library) parses the file; this module picks the shift list
+and entity, and gathers the entity sequence and sample conditions. Tags are those of the
+NMR-STAR 3.1 dictionary: ``_Atom_chem_shift.{Seq_ID, Auth_seq_ID, Comp_ID, Atom_ID, Atom_type,
+Val, Val_err, Ambiguity_code, Entity_ID, Entity_assembly_ID}``, ``_Entity_comp_index.{ID,
+Comp_ID}``, ``_Entity.Polymer_seq_one_letter_code``, ``_Sample_condition_variable.{Type, Val,
+Val_units}``. pynmrstar keeps no line numbers, so the file line of each shift row is found by
+a second pass with :func:`shiftcheck.io.star21.parse_star_syntax` (0 where that fails).
+"""
+from __future__ import annotations
+
+import re
+from collections import OrderedDict
+
+from ..errors import InputError, ShiftcheckError
+from ..shifts import SampleConditions, THREE_TO_ONE
+
+__all__ = ["read_star3"]
+
+_LINE = re.compile(r"line (\d+)", re.I)
+_COLS = {"seq_id": "Seq_ID", "auth_seq_id": "Auth_seq_ID", "comp_id": "Comp_ID",
+         "atom_id": "Atom_ID", "atom_type": "Atom_type", "value": "Val", "error": "Val_err",
+         "ambiguity": "Ambiguity_code"}
+
+
+def _parse(text: str, path: str):
+    import pynmrstar
+
+    try:
+        return pynmrstar.Entry.from_string(text)
+    except Exception as e:  # pynmrstar raises ParsingError, ValueError, KeyError, ...
+        msg = " ".join(str(e).split()) or type(e).__name__
+        line = getattr(e, "line_number", None)
+        if not line:
+            m = _LINE.search(msg)
+            line = int(m.group(1)) if m else None
+        raise InputError(f"NMR-STAR syntax error: {msg[:300]}", path=path, line=line) from None
+
+
+def _col(loop, tag: str) -> list[str] | None:
+    low = [t.lower() for t in loop.tags]
+    if tag.lower() not in low:
+        return None
+    k = low.index(tag.lower())
+    return [str(r[k]) for r in loop.data]
+
+
+def _tag(frame, tag: str) -> str | None:
+    try:
+        v = frame.get_tag(tag)
+    except Exception:
+        return None
+    return str(v[0]) if v else None
+
+
+def _row_lines(text: str, path: str, frame_name: str, n_rows: int, k_loop: int) -> list[int]:
+    """File line of each row of the k-th shift loop of a save frame (best effort)."""
+    from .star21 import parse_star_syntax
+
+    try:
+        blocks = parse_star_syntax(text, path)
+    except ShiftcheckError:
+        return [0] * n_rows
+    for b in blocks:
+        for f in b.frames:
+            if f.name != frame_name:
+                continue
+            loops = [lp for lp in f.loops if any(t.lower() == "_atom_chem_shift.val" for t in lp.tags)]
+            if k_loop < len(loops) and len(loops[k_loop].rows) == n_rows:
+                return list(loops[k_loop].row_lines)
+    return [0] * n_rows
+
+
+def _conditions(entry, shift_frame) -> SampleConditions:
+    from .shifts import conditions_from_rows
+
+    frames = [f for f in entry.frame_list if str(f.category).lower() == "sample_conditions"]
+    label = (_tag(shift_frame, "Sample_condition_list_label") or "").lstrip("$")
+    sid = _tag(shift_frame, "Sample_condition_list_ID")
+    first = [f for f in frames if f.name == label or (sid and _tag(f, "ID") == sid)]
+    for f in first + [f for f in frames if f not in first]:
+        for lp in f.loops:
+            typ = _col(lp, "Type")
+            if typ is None or lp.category.lower() != "_sample_condition_variable":
+                continue
+            val = _col(lp, "Val") or [""] * len(typ)
+            unit = _col(lp, "Val_units") or [""] * len(typ)
+            cond = conditions_from_rows(list(zip(typ, val, unit)))
+            if cond.temperature_K is not None or cond.pH is not None:
+                return cond
+    return SampleConditions()
+
+
+def _sequence(entry, entity_id: str) -> list[tuple[str, str]] | None:
+    ents = [f for f in entry.frame_list if str(f.category).lower() == "entity"]
+    chosen = [f for f in ents if _tag(f, "ID") == entity_id] or ents[:1]
+    for f in chosen:
+        for lp in f.loops:
+            if lp.category.lower() == "_entity_comp_index":
+                ids, comps = _col(lp, "ID"), _col(lp, "Comp_ID")
+                if ids and comps:
+                    return list(zip(ids, comps))
+        for lp in f.loops:
+            if lp.category.lower() == "_entity_poly_seq":
+                ids, comps = _col(lp, "Num"), _col(lp, "Mon_ID")
+                if ids and comps:
+                    return list(zip(ids, comps))
+        code = _tag(f, "Polymer_seq_one_letter_code")
+        if code and code not in (".", "?"):
+            return [(str(i + 1), c) for i, c in enumerate("".join(code.split()))]
+    return None
+
+
+def read_star3(text: str, path: str, list_id: str | None = None, entity_id: str | None = None):
+    """Read the assigned chemical shifts of an NMR-STAR 3.x entry into a ShiftList.
+
+    Parameters
+    ----------
+    text : str
+        File contents.
+    path : str
+        For messages and ``ShiftList.source``.
+    list_id : str, optional
+        ``_Assigned_chem_shift_list.ID`` or save frame name. Default: the only list, else the
+        list with most protein shifts, with a warning naming the others.
+    entity_id : str, optional
+        Entity_ID, Entity_assembly_ID or "assembly:entity". Default: the entity with most
+        shifts in the chosen list, with a warning naming the others.
+    """
+    from .shifts import build_shift_list, choose
+
+    entry = _parse(text, path)
+    found = []  # (frame, loop, k-th shift loop of the frame)
+    for f in entry.frame_list:
+        k = 0
+        for lp in f.loops:
+            if str(lp.category).lower() == "_atom_chem_shift":
+                found.append((f, lp, k))
+                k += 1
+    if not found:
+        raise InputError("no assigned chemical shift loop found (no _Atom_chem_shift loop)", path=path)
+    warnings: list[str] = []
+
+    def n_protein(lp) -> int:
+        comps = _col(lp, "Comp_ID") or []
+        return sum(1 for c in comps if c.upper() in THREE_TO_ONE)
+
+    descr = []
+    for f, lp, k in found:
+        fid = _tag(f, "ID") or ""
+        descr.append((f"list {fid or '?'} '{f.name}' ({len(lp.data)} shifts)",
+                      n_protein(lp) * 10 + 1 if lp.data else 0, [fid, f.name]))
+    i, others = choose(descr, list_id, "assigned shift list", path, warnings)
+    frame, loop, k_loop = found[i]
+    lines = _row_lines(text, path, frame.name, len(loop.data), k_loop)
+    cols = {key: _col(loop, tag) for key, tag in _COLS.items()}
+    if cols["seq_id"] is None:
+        cols["seq_id"] = _col(loop, "Comp_index_ID")
+    for need in ("seq_id", "comp_id", "atom_id", "value"):
+        if cols[need] is None:
+            raise InputError(f"shift loop in save frame {frame.name} lacks _Atom_chem_shift."
+                             f"{_COLS.get(need, need)}", path=path)
+    # entities inside the list
+    ent = _col(loop, "Entity_ID") or ["1"] * len(loop.data)
+    asm = _col(loop, "Entity_assembly_ID") or ["1"] * len(loop.data)
+    groups: "OrderedDict[tuple[str, str], list[int]]" = OrderedDict()
+    for r, key in enumerate(zip(asm, ent)):
+        groups.setdefault(key, []).append(r)
+    chosen_entity = ent[0] if ent else "1"
+    if len(groups) > 1 or entity_id is not None:
+        keys = list(groups)
+        gd = [(f"entity {e} (assembly {a}, {len(groups[(a, e)])} shifts)", len(groups[(a, e)]),
+               [e, a, f"{a}:{e}"]) for a, e in keys]
+        j, ent_others = choose(gd, entity_id, "entity", path, warnings)
+        others = others + ent_others
+        rows = groups[keys[j]]
+        chosen_entity = keys[j][1]
+        cols = {k: (None if v is None else [v[r] for r in rows]) for k, v in cols.items()}
+        lines = [lines[r] for r in rows]
+    seq = _sequence(entry, chosen_entity)
+    cond = _conditions(entry, frame)
+    return build_shift_list(path, cols, lines, list_id=_tag(frame, "ID") or str(i + 1),
+                            list_name=frame.name, entity_id=chosen_entity, sequence=seq,
+                            conditions=cond, other_lists=others, warnings=warnings)
