@@ -1,0 +1,95 @@
+"""`shiftcheck predict`: predicted shifts of every model, one column per term."""
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import os
+import sys
+import tempfile
+
+__all__ = ["add_parser", "run", "prediction_rows"]
+
+_RING_CHOICES = ("haigh-mallion", "johnson-bovey", "point-dipole")
+
+
+def add_parser(subparsers) -> argparse.ArgumentParser:
+    p = subparsers.add_parser(
+        "predict", help="predict chemical shifts from structures",
+        description="Predict backbone, methyl and aromatic-proton shifts of every model: random coil + "
+                    "sequence offsets + backbone conformation + ring currents + hydrogen bonds.")
+    p.add_argument("models", nargs="+", metavar="MODEL", help="PDB or mmCIF files (optionally .gz)")
+    p.add_argument("-o", "--output", metavar="FILE.csv", help="write a CSV table (default: print a table)")
+    p.add_argument("--chain", metavar="C", help="chain ID (default: the first protein chain)")
+    p.add_argument("--params", metavar="FILE", help="parameter file (default: the shipped one)")
+    p.add_argument("--ring-model", choices=_RING_CHOICES, help="ring-current model (default: the parameter file's)")
+    p.add_argument("--temperature", type=float, metavar="K", help="sample temperature in K (random-coil correction)")
+    p.add_argument("--ph", type=float, metavar="PH", help="sample pH (His ring-proton correction)")
+    return p
+
+
+def prediction_rows(pred):
+    """Yield (header, rows) for one Prediction: one row per (model, atom)."""
+    from ..predict.model import TERMS
+
+    header = ["model", "chain", "res_seq", "comp_id", "atom_id", "nucleus", "predicted", *TERMS]
+    rows = []
+    for m, name in enumerate(pred.model_names):
+        for k in range(len(pred)):
+            v = pred.values[m, k]
+            rows.append([name, pred.chain_id, int(pred.res_seq[k]), pred.comp_id[k], pred.atom_id[k],
+                         pred.nucleus[k], "" if v != v else f"{v:.3f}",
+                         *[f"{pred.terms[t][m, k]:.3f}" for t in TERMS]])
+    return header, rows
+
+
+def _write_atomic(path: str, text: str) -> None:
+    from ..errors import OutputError
+
+    d = os.path.dirname(os.path.abspath(path))
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=".predict-", suffix=".tmp", dir=d)
+    except OSError as exc:
+        raise OutputError(f"cannot write here ({exc.strerror})", path=path) from None
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+        os.replace(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+
+
+def run(args) -> int:
+    from ..io.coords import read_models
+    from ..predict.model import TERMS, Predictor
+    from ..shifts import SampleConditions
+
+    predictor = Predictor(args.params, args.ring_model)
+    cond = SampleConditions(temperature_K=args.temperature, pH=args.ph)
+    buf = io.StringIO()
+    writer = csv.writer(buf, lineterminator="\n")
+    first = True
+    for ens in read_models(args.models, chain=args.chain):
+        pred = predictor.predict(ens, cond)
+        header, rows = prediction_rows(pred)
+        if first:
+            writer.writerow(header)
+            first = False
+        writer.writerows(rows)
+        if not args.output:
+            print(f"# {ens.name}: chain {ens.chain_id}, {ens.n_models} model(s), {len(pred)} atoms, "
+                  f"ring model {predictor.ring_model}")
+    if args.output:
+        _write_atomic(args.output, buf.getvalue())
+        print(f"wrote {args.output}")
+        return 0
+    buf.seek(0)
+    rd = list(csv.reader(buf))
+    widths = [max(len(r[i]) for r in rd) for i in range(len(rd[0]))]
+    out = sys.stdout
+    for r in rd:
+        out.write("  ".join(c.rjust(w) if i >= 6 or i == 2 else c.ljust(w)
+                            for i, (c, w) in enumerate(zip(r, widths))).rstrip() + "\n")
+    return 0

@@ -1,0 +1,267 @@
+"""Fit the predictor's coefficients to (shift list, model) pairs: ridge least squares per nucleus.
+
+Every fitted term is linear in its coefficients (see :mod:`shiftcheck.predict.features`), so the
+fit is one weighted ridge solve per nucleus class and ring-current model (Hoerl & Kennard 1970,
+Technometrics 12:55): exact, fast and reproducible.
+
+Procedure
+---------
+1. For each pair, map the shift list onto the model by sequence alignment, build the features of
+   every model and average them over the models (NMR ensembles), and take measured − random coil
+   as the target.
+2. Rows of a shift list share a weight of 1 (a list paired with two structures gives each pair
+   weight 1/2), so every protein counts once.
+3. Solve; estimate one referencing offset per shift list and nucleus class as the median residual,
+   centre the offsets on their median across lists, subtract them and solve again
+   (``referencing_iterations`` times), so badly referenced entries do not bias the fit.
+4. Leave one shift list out: fit on the others, predict it, subtract its median residual, and
+   pool the squared errors: this is the ``expected_error`` stored in the file. The default ring
+   model is the one with the lowest pooled leave-one-out error over the proton classes.
+"""
+from __future__ import annotations
+
+import json
+from dataclasses import dataclass
+from importlib import resources
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import InputError
+from .features import StructureFeatures
+from .params import FORMAT
+from .randomcoil import load_table
+
+__all__ = ["Pair", "Dataset", "read_pairs_file", "load_settings", "build_dataset", "load_datasets",
+           "collect", "ridge_solve", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
+
+RING_MODELS = ("haigh-mallion", "johnson-bovey", "point-dipole")
+PROTON_CLASSES = ("H", "HA", "HMe", "Haro")
+_GROUP_RANK = {"const": 0, "res:": 1, "prev:": 2, "next:": 3, "conf:": 4, "ring:": 5, "hb:": 6}
+
+
+@dataclass
+class Pair:
+    """One (shift file, coordinate file[, chain]) pair; ``label`` is how it is named in outputs."""
+
+    shifts: str
+    models: str
+    chain: str | None = None
+    label: str = ""
+
+
+@dataclass
+class Dataset:
+    """Features and measured shifts of one pair."""
+
+    label: str
+    group: str          # the shift file: offsets, weights and leave-one-out use it
+    weight: float
+    features: StructureFeatures
+    measured: np.ndarray  # (n_targets,), NaN where not measured
+
+
+def load_settings() -> dict:
+    """Calibration settings from ``shiftcheck/data/calibration.json``."""
+    return json.loads(resources.files("shiftcheck.data").joinpath("calibration.json").read_text())
+
+
+def read_pairs_file(path: str, data_dir: str | None = None) -> list[Pair]:
+    """Read a pairs file: one pair per line, ``SHIFTS<TAB>MODELS[<TAB>CHAIN]``.
+
+    Blank lines and lines starting with '#' are skipped; fields may also be separated by runs of
+    spaces. Relative paths are taken relative to ``data_dir`` (default: the pairs file's folder).
+    CHAIN '-' or absent means the first protein chain.
+    """
+    base = Path(data_dir) if data_dir else Path(path).parent
+    try:
+        lines = Path(path).read_text(encoding="utf-8").splitlines()
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"cannot read pairs file ({exc.__class__.__name__})", path=path) from None
+    pairs = []
+    for k, line in enumerate(lines, 1):
+        if not line.strip() or line.lstrip().startswith("#"):
+            continue
+        f = line.split("\t") if "\t" in line else line.split()
+        f = [x.strip() for x in f if x.strip()]
+        if len(f) not in (2, 3):
+            raise InputError("expected SHIFTS<TAB>MODELS[<TAB>CHAIN]", path=path, line=k)
+        chain = f[2] if len(f) == 3 and f[2] != "-" else None
+        pairs.append(Pair(str(base / f[0]), str(base / f[1]), chain, label=f"{f[0]} + {f[1]}"))
+    if not pairs:
+        raise InputError("no pairs in file", path=path)
+    return pairs
+
+
+def build_dataset(shifts, ens, seq_to_res: dict, label: str, group: str, weight: float = 1.0,
+                  table: dict | None = None) -> Dataset:
+    """Match measured shifts to the predictor's target atoms of ``ens``."""
+    sf = StructureFeatures.from_ensemble(ens, shifts.conditions, table)
+    t = sf.targets
+    lookup = {(int(r), str(a)): k for k, (r, a) in enumerate(zip(t.res_index, t.atom_id))}
+    meas = np.full(len(t), np.nan)
+    for sid, comp, atom, val in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id, shifts.value):
+        r = seq_to_res.get(int(sid))
+        if r is None or str(ens.res_name[r]) != str(comp):
+            continue
+        k = lookup.get((r, str(atom)))
+        if k is not None and np.isfinite(val):
+            meas[k] = float(val)
+    return Dataset(label=label, group=group, weight=weight, features=sf, measured=meas)
+
+
+def load_datasets(pairs: list[Pair]) -> list[Dataset]:
+    """Read, map and featurise every pair with the project's readers."""
+    from ..io.coords import read_models
+    from ..io.shifts import read_shifts
+    from ..structure.mapping import map_sequence
+
+    table = load_table()
+    n_per = {}
+    for p in pairs:
+        n_per[p.shifts] = n_per.get(p.shifts, 0) + 1
+    out, cache = [], {}
+    for p in pairs:
+        if p.shifts not in cache:
+            cache[p.shifts] = read_shifts(p.shifts)
+        sl = cache[p.shifts]
+        for ens in read_models([p.models], chain=p.chain):
+            mp = map_sequence(sl, ens)
+            out.append(build_dataset(sl, ens, mp.seq_to_res, p.label or p.models, p.shifts,
+                                     1.0 / n_per[p.shifts], table))
+    return out
+
+
+def _canonical(seen: dict[str, int]) -> list[str]:
+    """Deterministic column order: const, residue indicators (alphabetical), then first-seen order."""
+    def key(n):
+        rank = next((r for pre, r in _GROUP_RANK.items() if n.startswith(pre)), 9)
+        return (rank, n if rank == 1 else "", seen[n])
+    return sorted(seen, key=key)
+
+
+def collect(datasets: list[Dataset], nucleus: str, groups, ring_model: str, orders=(2, 1),
+            names: list[str] | None = None):
+    """Rows of one nucleus class: (names, X (N, k), y = measured − random coil, dataset index, weight).
+
+    Features of NMR ensembles are averaged over the models.
+    """
+    groups = tuple(groups)
+    if names is None:
+        seen: dict[str, int] = {}
+        for d in datasets:
+            nm, _, _, _ = d.features.matrix(nucleus, None, groups, ring_model, orders)
+            for n in nm:
+                seen.setdefault(n, len(seen))
+        names = _canonical(seen)
+    Xs, ys, ds, ws = [], [], [], []
+    for i, d in enumerate(datasets):
+        _, _, X, sel = d.features.matrix(nucleus, names, groups, ring_model, orders)
+        y = d.measured[sel] - d.features.rc[:, sel].mean(axis=0)
+        ok = np.isfinite(y)
+        Xs.append(X.mean(axis=0)[ok]), ys.append(y[ok])
+        ds.append(np.full(ok.sum(), i)), ws.append(np.full(ok.sum(), d.weight))
+    return (list(names), np.concatenate(Xs) if Xs else np.zeros((0, len(names))),
+            np.concatenate(ys), np.concatenate(ds), np.concatenate(ws))
+
+
+def ridge_solve(X: np.ndarray, y: np.ndarray, w: np.ndarray, lam: float, free: np.ndarray) -> np.ndarray:
+    """Weighted ridge least squares on standardised columns; ``free`` columns are not penalised."""
+    sw = np.sqrt(w)[:, None]
+    mu = np.average(X, axis=0, weights=w)
+    sd = np.sqrt(np.average((X - mu) ** 2, axis=0, weights=w))
+    sd = np.where(sd > 1e-12, sd, 1.0)
+    Z = X / sd
+    A = (Z * sw).T @ (Z * sw)
+    pen = np.where(free, 0.0, lam)
+    A[np.diag_indices_from(A)] += pen + 1e-10
+    b = (Z * sw).T @ (np.sqrt(w) * y)
+    return np.linalg.solve(A, b) / sd
+
+
+def fit_rows(names, X, y, d, w, lam: float, iterations: int = 1):
+    """Fit with per-dataset-group referencing offsets; returns (coefficients, offsets by index)."""
+    free = np.array([n == "const" for n in names])
+    beta = ridge_solve(X, y, w, lam, free)
+    offsets = {}
+    for _ in range(iterations):
+        r = y - X @ beta
+        ids = np.unique(d)
+        off = np.array([np.median(r[d == k]) for k in ids])
+        off -= np.median(off)
+        offsets = dict(zip(ids.tolist(), off.tolist()))
+        beta = ridge_solve(X, y - np.array([offsets[k] for k in d]), w, lam, free)
+    return beta, offsets
+
+
+def loo_rows(names, X, y, d, w, group_of: np.ndarray, lam: float, iterations: int = 1) -> np.ndarray:
+    """Leave-one-group-out predictions (of y) for every row; ``group_of`` maps row -> group id."""
+    pred = np.full(y.shape, np.nan)
+    for g in np.unique(group_of):
+        test = group_of == g
+        if test.all():
+            continue
+        beta, _ = fit_rows(names, X[~test], y[~test], d[~test], w[~test], lam, iterations)
+        pred[test] = X[test] @ beta
+    return pred
+
+
+def _loo_error(y, pred, d, w, group_of):
+    """Pooled RMSD after removing each group's median residual (its referencing offset)."""
+    r = y - pred
+    ok = np.isfinite(r)
+    for g in np.unique(group_of[ok]):
+        s = ok & (group_of == g)
+        r[s] -= np.median(r[s])
+    return float(np.sqrt(np.average(r[ok] ** 2, weights=w[ok]))) if ok.any() else float("nan")
+
+
+def calibrate(datasets: list[Dataset], settings: dict | None = None, description: str = "",
+              ring_models=RING_MODELS) -> dict:
+    """Fit all coefficients and return a parameter dict (see :mod:`shiftcheck.predict.params`)."""
+    settings = settings or load_settings()
+    lam = float(settings["ridge_lambda"]["value"])
+    it = int(settings["referencing_iterations"]["value"])
+    orders = (int(settings["conformation"]["order"]), int(settings["conformation"]["class_order"]))
+    src = f"fitted by `shiftcheck calibrate` on {description or f'{len(datasets)} pairs'}"
+    groups_all = sorted({d.group for d in datasets})
+    gid = {g: i for i, g in enumerate(groups_all)}
+    coeffs, errors, proton_sse = {}, {}, {}
+    for rm in ring_models:
+        coeffs[rm], errors[rm], proton_sse[rm] = {}, {}, [0.0, 0.0]
+        for nuc, groups in settings["groups"].items():
+            names, X, y, d, w = collect(datasets, nuc, groups, rm, orders)
+            if y.size < len(names) // 4 + 2:
+                continue
+            beta, _ = fit_rows(names, X, y, d, w, lam, it)
+            coeffs[rm][nuc] = {"source": src, "names": names, "values": [float(v) for v in beta]}
+            group_of = np.array([gid[datasets[k].group] for k in d])
+            if len(groups_all) > 1:
+                err = _loo_error(y, loo_rows(names, X, y, d, w, group_of, lam, it), d, w, group_of)
+            else:
+                err = _loo_error(y, X @ beta, d, w, group_of)
+            errors[rm][nuc] = err
+            if nuc in PROTON_CLASSES and np.isfinite(err):
+                proton_sse[rm][0] += err ** 2 * w.sum()
+                proton_sse[rm][1] += w.sum()
+    best = min(ring_models, key=lambda m: proton_sse[m][0] / max(proton_sse[m][1], 1e-12))
+    loo = "leave-one-protein-out" if len(groups_all) > 1 else "in-sample (only one shift list)"
+    table = load_table()
+    return {
+        "format": FORMAT, "version": "1",
+        "description": "Parameters of the shiftcheck shift predictor. " + src + ".",
+        "random_coil": table,
+        "default_ring_model": {"value": best, "source": f"{src}: lowest {loo} RMSD pooled over the proton classes"},
+        "ridge_lambda": settings["ridge_lambda"],
+        "referencing_iterations": settings["referencing_iterations"],
+        "conformation": settings["conformation"],
+        "groups": settings["groups"],
+        "coefficients": coeffs,
+        "expected_error": {"source": f"{loo} RMSD (ppm, referencing offset removed) computed by "
+                                     f"`shiftcheck calibrate` with the default ring model on {description or 'its input'}",
+                           "values": {k: round(v, 4) for k, v in errors[best].items() if np.isfinite(v)},
+                           "by_ring_model": {m: {k: round(v, 4) for k, v in e.items() if np.isfinite(v)}
+                                             for m, e in errors.items()}},
+        "training": {"source": src, "pairs": [d.label for d in datasets],
+                     "n_shift_lists": len(groups_all)},
+    }

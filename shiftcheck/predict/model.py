@@ -1,0 +1,107 @@
+"""The shift predictor: random coil + fitted linear terms, vectorised over the model stack.
+
+For atom a of residue i in model m::
+
+    δ(m, a) = δ_rc(res_i, a; res_i+1, ω_i, SG–SG, T, pH)
+              + Σ_k w_k(nucleus) · f_k(m, a)
+
+with δ_rc from :mod:`shiftcheck.predict.randomcoil` and the features f_k from
+:mod:`shiftcheck.predict.features` (residue/neighbour offsets, φ/ψ Fourier basis, ring-current
+factors, hydrogen-bond terms). The coefficients w come from a parameter file
+(:mod:`shiftcheck.predict.params`), one set per ring-current model.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from ..errors import ParameterError
+from .features import GROUP_TERM, StructureFeatures
+from .params import load_params
+from .prediction import Prediction
+
+__all__ = ["Predictor", "predict", "TERMS"]
+
+#: Terms reported in :attr:`Prediction.terms`, in order.
+TERMS = ("random_coil", "sequence", "conformation", "ring_current", "hbond")
+
+
+class Predictor:
+    """Predict chemical shifts of every model of an ensemble.
+
+    Parameters
+    ----------
+    params : None, path or dict
+        Parameter file (None: the shipped defaults, ``shiftcheck/data/params_default.json``).
+    ring_model : str, optional
+        'haigh-mallion', 'johnson-bovey' or 'point-dipole'; default: the file's default.
+
+    Examples
+    --------
+    >>> from shiftcheck.io.coords import read_models            # doctest: +SKIP
+    >>> pred = Predictor().predict(read_models("1D3Z.pdb")[0])   # doctest: +SKIP
+    >>> pred.values.shape                                        # doctest: +SKIP
+    (10, 1100)
+    """
+
+    def __init__(self, params=None, ring_model: str | None = None):
+        self.params = load_params(params)
+        self.ring_model = ring_model or self.params["default_ring_model"]["value"]
+        if self.ring_model not in self.params["coefficients"]:
+            raise ParameterError(
+                f"ring model '{self.ring_model}' has no coefficients in the parameter file "
+                f"(available: {', '.join(self.params['coefficients'])})",
+                path=self.params.get("_path"))
+
+    def features(self, ens, conditions=None) -> StructureFeatures:
+        """The structural features of ``ens`` (reusable for several predictions)."""
+        return StructureFeatures.from_ensemble(ens, conditions, self.params["random_coil"])
+
+    def predict(self, ens, conditions=None, features: StructureFeatures | None = None) -> Prediction:
+        """Predicted shifts of all target atoms in all models, with each term separately.
+
+        Parameters
+        ----------
+        ens : Ensemble
+        conditions : SampleConditions, optional
+            Temperature and pH of the sample (random-coil corrections).
+        features : StructureFeatures, optional
+            Precomputed features of ``ens`` (must use the same conditions).
+
+        Returns
+        -------
+        Prediction
+        """
+        sf = features or self.features(ens, conditions)
+        t = sf.targets
+        n_models, n = ens.n_models, len(t)
+        terms = {name: np.zeros((n_models, n)) for name in TERMS}
+        terms["random_coil"] = sf.rc.copy()
+        coeffs = self.params["coefficients"][self.ring_model]
+        predicted = np.zeros(n, bool)
+        for nuc, block in coeffs.items():
+            names = list(block["names"])
+            groups = tuple(self.params["groups"][nuc])
+            if not names:
+                continue
+            conf = self.params.get("conformation", {})
+            orders = (int(conf.get("order", 2)), int(conf.get("class_order", 1)))
+            _, grp, X, sel = sf.matrix(nuc, names, groups, self.ring_model, orders)
+            w = np.asarray(block["values"], float)
+            grp = np.asarray(grp)
+            for g in np.unique(grp):
+                term = GROUP_TERM[g]
+                terms[term][:, sel] += X[:, :, grp == g] @ w[grp == g]
+            predicted[sel] = True
+        values = sum(terms.values())
+        values[:, ~predicted] = np.nan
+        return Prediction(ensemble_name=ens.name, model_names=list(ens.model_names),
+                          chain_id=ens.chain_id, res_index=t.res_index.copy(),
+                          res_seq=np.asarray(ens.res_seq)[t.res_index], comp_id=t.comp_id.astype(str),
+                          atom_id=t.atom_id.astype(str), nucleus=t.nucleus.astype(str),
+                          values=values, terms=terms,
+                          params_source=str(self.params.get("_path", "<dict>")) + f" [{self.ring_model}]")
+
+
+def predict(ens, params=None, ring_model: str | None = None, conditions=None) -> Prediction:
+    """Convenience wrapper: ``Predictor(params, ring_model).predict(ens, conditions)``."""
+    return Predictor(params, ring_model).predict(ens, conditions)
