@@ -192,3 +192,18 @@ def test_selenomethionine_crystal(realdata):
     assert met.size and (ens.indices(met, "SD") >= 0).all()
     assert any("MSE -> MET" in w for w in ens.warnings)
     assert any("water" in w for w in ens.warnings)
+
+
+def test_old_geminal_names_read_as_iupac(tmp_path):
+    # PDB v2 / old X-PLOR names: Gly HA1/HA2 and Lys 1HB/2HB mean IUPAC 1998 HA2/HA3, HB2/HB3
+    # (Markley et al. 1998, Pure Appl. Chem. 70:117)
+    ens = _ens()
+    lines = pdb_lines(ens)
+    lines.append(_rec("ATOM", 9001, " HA1", "GLY", 3, 1.0, "H"))
+    lines.append(_rec("ATOM", 9002, " HA2", "GLY", 3, 2.0, "H"))
+    lines.append(_rec("ATOM", 9003, "1HB ", "LYS", 6, 3.0, "H"))
+    lines.append(_rec("ATOM", 9004, "2HB ", "LYS", 6, 4.0, "H"))
+    p = write(tmp_path, "old.pdb", lines)
+    got = read_model_file(p)
+    assert np.allclose(got.xyz([2, 2, 5, 5], np.array(["HA2", "HA3", "HB2", "HB3"], dtype=object))[0],
+                       np.array([[1.0] * 3, [2.0] * 3, [3.0] * 3, [4.0] * 3]))

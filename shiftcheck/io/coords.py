@@ -25,17 +25,7 @@ import numpy as np
 from ..errors import InputError, ShiftcheckError
 from ..shifts import ONE_TO_THREE
 from ..structure.ensemble import Ensemble
-try:
-    from ..structure.names import normalise_atom_name, normalise_comp_id
-except ImportError:  # pragma: no cover - until structure/names.py lands
-    def normalise_comp_id(name: str) -> str:
-        name = name.strip().upper()
-        return {"MSE": "MET", "HSD": "HIS", "HSE": "HIS", "HSP": "HIS", "HIE": "HIS", "HID": "HIS",
-                "HIP": "HIS", "CYX": "CYS"}.get(name, name)
-
-    def normalise_atom_name(comp_id: str, name: str) -> str:
-        name = name.strip().upper()
-        return "H" if name == "HN" else name
+from ..structure.names import normalise_comp_id, normalise_residue_atom_names
 
 __all__ = ["read_models", "read_model_file", "stack_compatible", "HEAVY_ATOMS"]
 
@@ -222,20 +212,20 @@ def _parse(text: str, path: str):
 
 # ----------------------------------------------------------------------------- building the ensemble
 
-_NAME_CACHE: dict[tuple[str, str], str] = {}
+_NAME_CACHE: dict[tuple, list[str]] = {}
 
 
-def _atom_name(orig_res: str, res: str, name: str) -> str:
-    key = (orig_res, name)
+def _residue_names(orig_res: str, names: tuple[str, ...]) -> list[str]:
+    """IUPAC names of one residue's atoms, normalised together (old geminal 1/2 pairs)."""
+    key = (orig_res, names)
     out = _NAME_CACHE.get(key)
     if out is None:
-        if orig_res == "MSE" and name == "SE":
-            out = "SD"
-        else:
-            try:
-                out = normalise_atom_name(res, name)
-            except Exception:
-                out = name
+        try:
+            out = normalise_residue_atom_names(orig_res, list(names))
+        except Exception:
+            out = [n.strip().upper() for n in names]
+        if len(_NAME_CACHE) > 100_000:
+            _NAME_CACHE.clear()
         _NAME_CACHE[key] = out
     return out
 
@@ -340,8 +330,7 @@ def _extract(model, chain_id: str, notes: dict) -> tuple[list, list, list]:
             ri = len(res_keys)
             res_keys.append(rk)
             names_here = set()
-            for a in atoms:
-                an = _atom_name(orig, name, a[0])
+            for a, an in zip(atoms, _residue_names(orig, tuple(a[0] for a in atoms))):
                 if an in names_here:
                     notes.setdefault("duplicate atoms", set()).add(f"{name} {rk[0]}{rk[1]} {an}")
                     continue
