@@ -1,7 +1,7 @@
 """Read protein models from PDB and mmCIF files (plain or gzip) into :class:`Ensemble` stacks.
 
-Parsing is done by gemmi (Wojdyr 2022, J. Open Source Softw. 7:4200), which reads about
-3-4 million atoms per second here; shiftcheck then picks one protein chain, resolves
+Parsing is done by gemmi (Wojdyr 2022, J. Open Source Softw. 7:4200), which parses about
+5 million atoms per second here (benchmarks/README.md); shiftcheck then picks one protein chain, resolves
 alternate locations, renames atoms to the IUPAC 1998 convention and packs all models of a
 file into one (n_models, n_atoms, 3) coordinate array.
 
