@@ -47,6 +47,12 @@ def check_outdir(outdir: str | os.PathLike, force: bool = False, inputs=()) -> P
     return out
 
 
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
+
+
 @contextlib.contextmanager
 def staged_outdir(outdir: str | os.PathLike, force: bool = False, inputs=()):
     """Context manager yielding a temporary directory that becomes OUTDIR on success.
@@ -59,6 +65,7 @@ def staged_outdir(outdir: str | os.PathLike, force: bool = False, inputs=()):
     out = check_outdir(outdir, force, inputs)
     tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.tmp-", dir=str(out.parent)))
     try:
+        os.chmod(tmp, 0o777 & ~_umask())     # mkdtemp makes 0700; give the usual permissions
         yield tmp
         if out.is_dir() and not any(out.iterdir()):
             out.rmdir()

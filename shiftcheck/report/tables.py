@@ -53,6 +53,9 @@ def _atomic_write(path: Path, text: str) -> None:
     try:
         with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
             fh.write(text)
+        mask = os.umask(0)
+        os.umask(mask)
+        os.chmod(tmp, 0o666 & ~mask)          # mkstemp makes 0600; give the usual permissions
         os.replace(tmp, path)
     except BaseException:
         if os.path.exists(tmp):
