@@ -23,7 +23,7 @@ __all__ = ["ranking_figure", "correlation_figure", "sequence_figure", "referenci
 
 MAX_MODELS = 30      # rows shown in the ranking and the models x residues strip
 MAX_LABELS = 6       # flagged-point labels per correlation panel
-Z_MAX = 4.0          # top of the |z| colour scale
+Z_MAX = 3.0          # top of the |z| colour scale
 
 
 def _new(size) -> Figure:
@@ -294,7 +294,12 @@ def _ss_track(ax, data, model) -> str | None:
         s.set_visible(False)
     ax.tick_params(labelbottom=False, bottom=False)
     ss_all = data.summary.get("secondary_structure")
-    entry = ss_all.get(model) if isinstance(ss_all, dict) else None
+    ss_all = ss_all if isinstance(ss_all, dict) else {}
+    entry, used = ss_all.get(model), model
+    if entry is None:   # e.g. name#mean has no coordinates: use the ensemble's first model
+        stem = model.split("#")[0]
+        used = next((k for k in ss_all if k.split("#")[0] == stem), None)
+        entry = ss_all.get(used) if used else None
     if not isinstance(entry, dict) or not entry.get("ss") or not entry.get("seq_id"):
         ax.text(0.5, 0.5, "secondary structure not in summary.json", transform=ax.transAxes,
                 ha="center", va="center", fontsize=st.SMALL, color=st.NEUTRAL)
@@ -318,18 +323,23 @@ def _ss_track(ax, data, model) -> str | None:
     ax.set_ylabel("SS", rotation=0, ha="right", va="center", fontsize=st.SMALL)
     ax.text(1.0, 1.0, "box: helix   arrow: strand   line: other", transform=ax.transAxes,
             ha="right", va="bottom", fontsize=6.5, color=st.NEUTRAL)
-    return str(entry.get("method") or "method not stated")
+    method = str(entry.get("method") or "method not stated")
+    return method if used == model else f"{method}; drawn for {used}, as {model} has no coordinates"
 
 
 # ----------------------------------------------------------------------------- 4. referencing
-def before_after(residual: np.ndarray, offset: float, applied: bool) -> tuple[np.ndarray, np.ndarray]:
+def before_after(residual: np.ndarray, offset: float, applied: bool,
+                 per_row: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray]:
     """Residuals (measured - predicted) without and with the referencing offset subtracted.
 
     residues.csv holds residuals as scored: after the correction when it was applied, before it
-    otherwise. The other side is reconstructed as ``residual +/- offset``.
+    otherwise. When applied, the row's own correction (residues.csv ``offset`` column, if
+    present) is added back; otherwise the estimated ``offset`` is subtracted to show what the
+    correction would do.
     """
     if applied:
-        return residual + offset, residual
+        add = per_row if per_row is not None and np.isfinite(per_row).all() else offset
+        return residual + add, residual
     return residual, residual - offset
 
 
@@ -351,14 +361,16 @@ def referencing_figure(data: ReportData) -> Figure:
             ax = fig.add_subplot(gs[k // nc, k % nc])
             kind = st.OFFSET_TYPE[x]
             off = data.offset(kind)
-            d = res.residual[(res.nucleus == x) & np.isfinite(res.residual)]
+            sel = (res.nucleus == x) & np.isfinite(res.residual)
+            d = res.residual[sel]
             value = float(off.get("value") or 0.0) if off else 0.0
             applied = bool(off.get("applied")) if off else False
-            before, after = before_after(d, value, applied)
+            before, after = before_after(d, value, applied, res.offset[sel])
             both = np.concatenate([before, after])
             lo, hi = np.percentile(both, [0.5, 99.5]) if both.size else (-1, 1)
             lo, hi = min(lo, -0.1), max(hi, 0.1)
-            bins = np.linspace(lo, hi, 41)
+            n_atoms = d.size / max(len(set(res.model[sel])), 1)     # atoms per model
+            bins = np.linspace(lo, hi, int(np.clip(2 * np.sqrt(n_atoms), 8, 40)) + 1)
             ax.hist(np.clip(after, lo, hi), bins=bins, color=st.nucleus_colour(x), alpha=0.75,
                     gid=f"after:{x}")
             ax.hist(np.clip(before, lo, hi), bins=bins, histtype="step", color="black", lw=0.9,
@@ -367,9 +379,9 @@ def referencing_figure(data: ReportData) -> Figure:
             iso = st.ISOTOPE_LABEL[kind]
             if off:
                 state = "applied" if applied else "not applied"
-                ax.set_title(f"{x}: {iso} offset {value:+.2f} ppm, {state}", loc="left", fontsize=8.5)
+                ax.set_title(f"{x}: {iso} offset {value:+.2f} ppm\n{state}", loc="left", fontsize=8.5)
             else:
-                ax.set_title(f"{x}: no {iso} offset in summary.json", loc="left", fontsize=8.5)
+                ax.set_title(f"{x}: no {iso} offset\nin summary.json", loc="left", fontsize=8.5)
             ax.set_xlabel("measured - predicted (ppm)")
             ax.set_ylabel("atoms (all models)")
             ax.tick_params(labelsize=7)

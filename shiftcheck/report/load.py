@@ -45,7 +45,12 @@ class RankingTable:
 
 @dataclass
 class ResidueTable:
-    """residues.csv as a struct of arrays; ``nucleus`` is derived from comp_id/atom_id."""
+    """residues.csv as a struct of arrays.
+
+    ``nucleus`` comes from the optional ``nucleus`` column, else from comp_id/atom_id;
+    ``offset`` (the referencing correction subtracted from ``measured`` before the residual
+    was taken) from the optional ``offset`` column, else NaN.
+    """
     model: np.ndarray
     chain: np.ndarray
     seq_id: np.ndarray
@@ -57,6 +62,7 @@ class ResidueTable:
     z: np.ndarray
     flag: np.ndarray
     nucleus: np.ndarray
+    offset: np.ndarray
 
     def __len__(self) -> int:
         return len(self.model)
@@ -160,14 +166,20 @@ def _read_residues(path: Path) -> ResidueTable:
     seq = _column(header, body, "seq_id", path, lambda s: int(float(s)))
     num = {c: np.array(_column(header, body, c, path, _float), dtype=float)
            for c in ("measured", "predicted", "residual", "z")}
-    nuc = [nucleus_class(c, a) or "other" for c, a in zip(cols["comp_id"], cols["atom_id"])]
+    if "nucleus" in header:
+        nuc = [x.strip() or (nucleus_class(c, a) or "other") for x, c, a in
+               zip(_column(header, body, "nucleus", path), cols["comp_id"], cols["atom_id"])]
+    else:
+        nuc = [nucleus_class(c, a) or "other" for c, a in zip(cols["comp_id"], cols["atom_id"])]
+    offset = (np.array(_column(header, body, "offset", path, _float), dtype=float) if "offset" in header
+              else np.full(len(body), np.nan))
     return ResidueTable(model=np.array(cols["model"], dtype=object),
                         chain=np.array(cols["chain"], dtype=object),
                         seq_id=np.array(seq, dtype=int),
                         comp_id=np.array(cols["comp_id"], dtype=object),
                         atom_id=np.array(cols["atom_id"], dtype=object),
                         flag=np.array([f.strip() for f in cols["flag"]], dtype=object),
-                        nucleus=np.array(nuc, dtype=object), **num)
+                        nucleus=np.array(nuc, dtype=object), offset=offset, **num)
 
 
 def load_outdir(outdir) -> ReportData:

@@ -1,6 +1,7 @@
 """Text pages of the report: the opening page and the paginated table of flagged atoms."""
 from __future__ import annotations
 
+import re
 import textwrap
 
 import numpy as np
@@ -12,10 +13,8 @@ from . import style as st
 from ._layout import fmt, short_hash
 from .load import ReportData
 
-__all__ = ["title_page", "flags_figure", "flag_page_count", "flag_rows", "ROWS_PER_PAGE",
-           "CAUTION"]
+__all__ = ["title_page", "flags_figure", "flag_page_count", "flag_rows", "CAUTION"]
 
-ROWS_PER_PAGE = 44
 CAUTION = ("Agreement with chemical shifts supports a structure but does not prove it. Shifts "
            "are local probes: a model can match them and still be wrong elsewhere. Use this "
            "report beside expert validation (geometry, restraints, density or NOEs) and the "
@@ -43,7 +42,8 @@ def _lines(data: ReportData) -> list[tuple[str, str]]:
     s = data.summary
     out: list[tuple[str, str]] = []
     out.append(("t", f"shiftcheck {s.get('shiftcheck_version', '?')}   created {s.get('created', '?')}"))
-    out.append(("t", f"Output directory: {data.outdir.name}    best model: {data.best_model}"))
+    name = re.sub(r"^\.(.+)\.tmp-[^/]*$", r"\1", data.outdir.name)   # staged by `score`
+    out.append(("t", f"Output directory: {name}    best model: {data.best_model}"))
     out.append(("h", "Inputs"))
     inputs = s.get("inputs") if isinstance(s.get("inputs"), dict) else {}
     sh = inputs.get("shifts") if isinstance(inputs.get("shifts"), dict) else None
@@ -75,7 +75,12 @@ def _lines(data: ReportData) -> list[tuple[str, str]]:
             state = "applied" if o.get("applied") else "not applied"
             out.append(("m", f"{st.ISOTOPE_LABEL[kind]:>4}: {fmt(o.get('value'))} ppm  "
                              f"(95% interval {fmt(o.get('low'))} to {fmt(o.get('high'))}, "
-                             f"n {o.get('n', '-')}), {state}"))
+                             f"n {o.get('n', '-')}), {state}"
+                             + (f", threshold {fmt(o['threshold'], '.2f')} ppm" if "threshold" in o else "")))
+            per = o.get("per_atom")
+            if isinstance(per, dict) and per:
+                parts = [f"{k} {fmt(v.get('value') if isinstance(v, dict) else v)}" for k, v in per.items()]
+                out.append(("m", "       per atom: " + ", ".join(parts) + " ppm"))
     out.append(("h", "Ranking (best first)"))
     for row in (s.get("ranking") or [])[:6]:
         if isinstance(row, dict):
@@ -89,11 +94,18 @@ def _lines(data: ReportData) -> list[tuple[str, str]]:
         out.append(("h", "Parameters"))
         flat = "  ".join(f"{k}={_short(v)}" for k, v in params.items())
         out += [("m", ln) for ln in textwrap.wrap(flat, 100)[:5]]
-    n_flags = len(s.get("flags") or [])
+    flags = [f for f in (s.get("flags") or []) if isinstance(f, dict)]
+    n_atoms = len({(f.get("chain"), f.get("seq_id"), f.get("atom_id")) for f in flags})
+    left = s.get("left_out")
+    if isinstance(left, dict):
+        counts = left.get("counts")
+        n_left = sum(v for v in counts.values() if isinstance(v, int)) if isinstance(counts, dict) else "?"
+    else:
+        n_left = len(left or [])
     out.append(("h", "Counts and warnings"))
     out.append(("t", f"{len(data.ranking.model)} models, {len(np.unique(data.residues.seq_id))} "
-                     f"residues compared, {n_flags} flags, {len(s.get('data_checks') or [])} "
-                     f"data-check findings, {len(s.get('left_out') or [])} atoms left out"))
+                     f"residues compared, {n_atoms} flagged atoms ({len(flags)} model-atom flags), "
+                     f"{len(s.get('data_checks') or [])} data-check findings, {n_left} shifts left out"))
     for w in list(s.get("warnings") or [])[:5] + data.notes[:4]:
         out += [("t", ln) for ln in textwrap.wrap(f"- {w}", 110)[:2]]
     out.append(("h", "Reading this report"))
@@ -134,13 +146,17 @@ def title_page(data: ReportData) -> Figure:
 
 
 # ------------------------------------------------------------------ flags table (figure 5)
-_FLAG_COLS = [("residue", 0.0), ("atom", 0.09), ("measured", 0.17), ("predicted", 0.27),
-              ("max |z|", 0.44), ("class", 0.52), ("rule", 0.67), ("models", 0.95)]
-_CHECK_COLS = [("residue", 0.0), ("atom", 0.1), ("rule", 0.18), ("finding", 0.40), ("source", 0.80)]
+_FLAG_COLS = [("residue", 0.0), ("atom", 0.08), ("measured", 0.15), ("predicted", 0.24),
+              ("max |z|", 0.38), ("class", 0.45), ("rule", 0.58), ("models", 0.92)]
+_CHECK_COLS = [("residue", 0.0), ("atom", 0.08), ("rule", 0.17), ("finding", 0.31), ("source", 0.68)]
+_LEFT, _WIDTH, _TOP, _LINE = 0.06, 0.9, 0.905, 0.0175
+_CHAR_IN = 7.0 * 0.602 / 72      # DejaVu Sans Mono advance at 7 pt (0.602 em), inches
+_CLASS_TEXT = {"every": "in every model", "some": "in some models"}
 
 
 def flag_rows(data: ReportData) -> list[tuple[str, list[str]]]:
-    """Rows of the flags pages: ('section', [title]), ('header', cols) or ('row'|'check', cells).
+    """Rows of the flags pages: ('section', [title]), ('note', [text]), ('header', cols),
+    ('row', cells) for flagged atoms, ('check', cells) for data-check findings.
 
     Flags are grouped per atom (one row however many models flag it); predicted is the value
     or the range over the flagging models.
@@ -170,17 +186,19 @@ def flag_rows(data: ReportData) -> list[tuple[str, list[str]]]:
             zs = [abs(float(f["z"])) for f in fs if _isnum(f.get("z"))]
             p = fmt(pred[0], ".2f") if len(set(pred)) == 1 else (
                 f"{min(pred):.2f}-{max(pred):.2f}" if pred else "-")
+            klass = str(fs[0].get("class") or "")
             rows.append(("row", [f"{comp.capitalize()} {seq}", atom, fmt(fs[0].get("measured"), ".2f"),
-                                 p, fmt(max(zs), ".1f") if zs else "-", _short(fs[0].get("class") or "", 22),
-                                 _short(fs[0].get("rule") or "", 40), f"{len(fs)}/{n_models}"]))
+                                 p, fmt(max(zs), ".1f") if zs else "-", _CLASS_TEXT.get(klass, klass),
+                                 str(fs[0].get("rule") or ""), f"{len(fs)}/{n_models}"]))
     checks = [c for c in (s.get("data_checks") or []) if isinstance(c, dict)]
     rows.append(("section", [f"Data checks without a structure ({len(checks)} findings)"]))
     if checks:
         rows.append(("header", [c for c, _ in _CHECK_COLS]))
         for c in checks:
+            rule = str(c.get("rule") or "") + (f" ({c['severity']})" if c.get("severity") else "")
             rows.append(("check", [f"{str(c.get('comp_id', '')).capitalize()} {c.get('seq_id', '')}",
-                                   str(c.get("atom_id", "") or ""), _short(c.get("rule") or "", 34),
-                                   _short(c.get("message") or "", 62), _short(c.get("source") or "", 30)]))
+                                   str(c.get("atom_id", "") or ""), rule, str(c.get("message") or ""),
+                                   str(c.get("source") or "")]))
     else:
         rows.append(("note", ["No findings." if "data_checks" in s else "summary.json has no 'data_checks'."]))
     return rows
@@ -194,46 +212,81 @@ def _isnum(v) -> bool:
         return False
 
 
+def _wrap_cells(cells, cols, max_lines=3) -> list[list[str]]:
+    """Wrap each cell to its column width (monospace); at most ``max_lines`` lines per cell."""
+    out = []
+    for k, (c, (_, x)) in enumerate(zip(cells, cols)):
+        right = cols[k + 1][1] if k + 1 < len(cols) else 1.0
+        n = max(4, int((right - x) * _WIDTH * st.A4_PORTRAIT[0] / _CHAR_IN) - 1)
+        lines = textwrap.wrap(c, n) or [""]
+        if len(lines) > max_lines:
+            lines = lines[:max_lines]
+            lines[-1] = lines[-1][: n - 3] + "..."
+        out.append(lines)
+    return out
+
+
+def _layout_pages(rows) -> list[list[tuple[str, list, list]]]:
+    """Split rows into pages by line count; each item is (kind, cells, columns)."""
+    per_page = (_TOP - 0.03) / _LINE
+    pages_, cur, used, cols, header = [], [], 0, _FLAG_COLS, None
+    for kind, cells in rows:
+        if kind == "header":
+            cols = _FLAG_COLS if "measured" in cells else _CHECK_COLS
+            header = (kind, cells, cols)
+        if kind in ("row", "check"):
+            n = len(max(_wrap_cells(cells, cols), key=len)) + 0.2
+        else:
+            n = 2 if kind == "section" else 1
+        if used + n > per_page and cur:
+            pages_.append(cur)
+            cur, used = [], 0
+            if kind in ("row", "check") and header:
+                cur.append(header)
+                used = 1
+        cur.append((kind, cells, cols))
+        used += n
+    pages_.append(cur)
+    return pages_
+
+
 def flag_page_count(data: ReportData) -> int:
     """Number of pages the flags table takes."""
-    return max(1, -(-len(flag_rows(data)) // ROWS_PER_PAGE))
+    return len(_layout_pages(flag_rows(data)))
 
 
 def flags_figure(data: ReportData, page: int = 0) -> Figure:
     """One page of the table of flagged atoms and data-check findings."""
-    rows = flag_rows(data)
-    n_pages = max(1, -(-len(rows) // ROWS_PER_PAGE))
-    chunk = rows[page * ROWS_PER_PAGE:(page + 1) * ROWS_PER_PAGE]
-    if chunk and chunk[0][0] in ("row", "check"):   # repeat the column header on a new page
-        header = [r for r in rows[:page * ROWS_PER_PAGE] if r[0] == "header"][-1]
-        chunk = [header] + chunk
+    laid = _layout_pages(flag_rows(data))
+    n_pages = len(laid)
     with st.report_style():
         fig = _new(st.A4_PORTRAIT)
-        fig.text(0.06, 0.955, "Flagged atoms and data checks" + (f" (page {page + 1} of {n_pages})"
+        fig.text(_LEFT, 0.955, "Flagged atoms and data checks" + (f" (page {page + 1} of {n_pages})"
                  if n_pages > 1 else ""), fontsize=st.TITLE)
-        fig.text(0.06, 0.937, "Shifts in ppm. class: 'in every model' points at the data or the "
+        fig.text(_LEFT, 0.937, "Shifts in ppm. class: 'in every model' points at the data or the "
                  "predictor, 'in some models' at those models. models: flagging / scored.",
                  fontsize=st.SMALL, color=st.NEUTRAL)
-        y, left, width = 0.905, 0.06, 0.9
-        cols = _FLAG_COLS
-        for kind, cells in chunk:
+        y = _TOP
+        for kind, cells, cols in laid[page]:
             if kind == "section":
-                y -= 0.006
-                fig.text(left, y, cells[0], fontsize=10, weight="bold")
-            elif kind == "note":
-                fig.text(left, y, cells[0], fontsize=8)
-            else:
-                if kind == "header":
-                    cols = _FLAG_COLS if "measured" in cells else _CHECK_COLS
-                for (_, x), c in zip(cols, cells):
-                    fig.text(left + x * width, y, c, fontsize=7.5,
-                             weight="bold" if kind == "header" else "normal",
-                             family=None if kind == "header" else st.MONO)
-                if kind == "header":
-                    fig.add_artist(_rule(left, left + width, y - 0.005))
-            y -= 0.0195
+                y -= 0.5 * _LINE
+                fig.text(_LEFT, y, cells[0], fontsize=10, weight="bold")
+                y -= 1.0 * _LINE
+                continue
+            if kind == "note":
+                fig.text(_LEFT, y, cells[0], fontsize=8)
+                y -= _LINE
+                continue
+            wrapped = _wrap_cells(cells, cols) if kind != "header" else [[c] for c in cells]
+            for (_, x), lines in zip(cols, wrapped):
+                fig.text(_LEFT + x * _WIDTH, y - (0.75 * _LINE if kind == "header" else 0),
+                         "\n".join(lines), fontsize=7 if kind != "header" else 7.5,
+                         va="baseline" if kind == "header" else "top", linespacing=1.45,
+                         weight="bold" if kind == "header" else "normal",
+                         family=None if kind == "header" else st.MONO)
+            n = max(len(w) for w in wrapped)
+            if kind == "header":
+                fig.add_artist(Line2D([_LEFT, _LEFT + _WIDTH], [y - 1.0 * _LINE] * 2, lw=0.5,
+                                      color=st.NEUTRAL))
+            y -= n * _LINE + (0.2 * _LINE if kind != "header" else 0.3 * _LINE)
     return fig
-
-
-def _rule(x0, x1, y):
-    return Line2D([x0, x1], [y, y], lw=0.5, color=st.NEUTRAL)
