@@ -10,6 +10,7 @@ a second pass with :func:`shiftcheck.io.star21.parse_star_syntax` (0 where that 
 """
 from __future__ import annotations
 
+import logging
 import re
 from collections import OrderedDict
 
@@ -24,11 +25,28 @@ _COLS = {"seq_id": "Seq_ID", "auth_seq_id": "Auth_seq_ID", "comp_id": "Comp_ID",
          "ambiguity": "Ambiguity_code"}
 
 
-def _parse(text: str, path: str):
+class _Collect(logging.Handler):
+    """Keeps pynmrstar's parse warnings so they reach ShiftList.warnings, not the console."""
+
+    def __init__(self) -> None:
+        super().__init__(logging.WARNING)
+        self.messages: list[str] = []
+
+    def emit(self, record: logging.LogRecord) -> None:
+        self.messages.append(" ".join(record.getMessage().split()))
+
+
+def _parse(text: str, path: str, warnings: list[str]):
     import pynmrstar
 
+    logger = logging.getLogger("pynmrstar")
+    handler, propagate = _Collect(), logger.propagate
+    logger.addHandler(handler)
+    logger.propagate = False
     try:
-        return pynmrstar.Entry.from_string(text)
+        entry = pynmrstar.Entry.from_string(text)
+        warnings.extend(f"NMR-STAR: {m}" for m in handler.messages[:5])
+        return entry
     except Exception as e:  # pynmrstar raises ParsingError, ValueError, KeyError, ...
         msg = " ".join(str(e).split()) or type(e).__name__
         line = getattr(e, "line_number", None)
@@ -36,6 +54,9 @@ def _parse(text: str, path: str):
             m = _LINE.search(msg)
             line = int(m.group(1)) if m else None
         raise InputError(f"NMR-STAR syntax error: {msg[:300]}", path=path, line=line) from None
+    finally:
+        logger.removeHandler(handler)
+        logger.propagate = propagate
 
 
 def _col(loop, tag: str) -> list[str] | None:
@@ -130,7 +151,8 @@ def read_star3(text: str, path: str, list_id: str | None = None, entity_id: str 
     """
     from .shifts import build_shift_list, choose
 
-    entry = _parse(text, path)
+    warnings: list[str] = []
+    entry = _parse(text, path, warnings)
     found = []  # (frame, loop, k-th shift loop of the frame)
     for f in entry.frame_list:
         k = 0
@@ -140,7 +162,6 @@ def read_star3(text: str, path: str, list_id: str | None = None, entity_id: str 
                 k += 1
     if not found:
         raise InputError("no assigned chemical shift loop found (no _Atom_chem_shift loop)", path=path)
-    warnings: list[str] = []
 
     def n_protein(lp) -> int:
         comps = _col(lp, "Comp_ID") or []
