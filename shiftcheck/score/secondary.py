@@ -7,7 +7,8 @@ hydrogen bond is assumed when N(i)...O(j) < 3.5 A with |i - j| >= 3 (common prac
   -120 < psi < 50) with the i -> i+4 contact O(i)...N(i+4); the run i..i+4 is marked H,
   and runs shorter than 4 residues are dropped.
 * E (strand): residue in the extended region (-180 < phi < -40, psi > 90 or psi < -150) with
-  a backbone N...O contact to a residue |i - j| > 3 that is also extended; isolated E kept.
+  a backbone N...O contact to a residue |i - j| > 3 that is also extended, or an extended
+  residue between two such residues.
 * C: everything else.
 Vectorised over models: distance matrices (models, n_res, n_res).
 """
@@ -50,6 +51,11 @@ def assign_secondary(ens) -> np.ndarray:
     sep = np.abs(r[:, None] - r[None, :]) > 3
     pair = (contact | np.swapaxes(contact, 1, 2)) & sep[None]
     ext_partner = (pair & extended[:, None, :]).any(axis=2)
-    strand = extended & ext_partner & (ss != "H")
+    bridged = extended & ext_partner
+    # in a sheet every other residue points its N-H/C=O away from the partner strand: an extended
+    # residue between two bridged residues belongs to the strand too
+    gap = np.zeros_like(bridged)
+    gap[:, 1:-1] = extended[:, 1:-1] & bridged[:, :-2] & bridged[:, 2:]
+    strand = (bridged | gap) & (ss != "H")
     ss[strand] = "E"
     return np.array(["".join(row) for row in ss])
