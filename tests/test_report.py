@@ -139,9 +139,9 @@ def test_cli_errors_exit_2_one_line(tmp_path, capsys, case):
 
 # ---------------------------------------------------------------------------- real data
 # Representative subset (time): ubiquitin (BMRB 17769 against NMR ensemble 1D3Z and X-ray 1UBQ)
-# and ci2 (BMRB 4974 against NMR ensemble 3CI2 and X-ray 1YPA).
+# and hr3102a (BMRB table of PDB 2KRK against NMR ensemble 2KRK and X-ray 3KW6).
 REAL_SUBSET = {"ubiquitin": ("bmr17769.str", ("1D3Z.pdb", "1ubq.pdb")),
-               "ci2": ("bmrb4974.str", ("3CI2.pdb", "1YPA.pdb"))}
+               "hr3102a": ("2krk_shifts.str", ("2KRK.pdb", "3KW6.pdb"))}
 
 
 @pytest.mark.realdata
