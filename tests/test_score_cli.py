@@ -126,3 +126,17 @@ def test_check_command(ubq, capsys):
     assert main(["check", str(ubq[0]), "--json"]) == 0
     rows = json.loads(capsys.readouterr().out)
     assert all({"seq_id", "comp_id", "atom_id", "rule", "message", "source"} <= set(r) for r in rows)
+
+
+@pytest.mark.parametrize("folder,shifts", [("yppr", "16570_v2.str"), ("gb3", "bmr2575.str"),
+                                           ("hsr50", "2lok_shifts.str"), ("engrailed_hd", "bmr15536.str")])
+def test_score_real_folders(realdata, tmp_path, folder, shifts):
+    # representative subset of the realdata walk (NMR-STAR 2.1, 1H-only list, single-model
+    # files with odd numbering, 25-model NMR ensemble with an X-ray structure)
+    d = realdata / folder
+    models = sorted(str(p) for p in d.glob("*.pdb"))
+    out = tmp_path / "o"
+    assert main(["score", str(d / shifts), *models, "-o", str(out), "--bootstrap", "20",
+                 "--no-report", "--quiet"]) == 0
+    summ = json.loads((out / "summary.json").read_text())
+    assert summ["ranking"][0]["rank"] == 1 and summ["left_out"]["n_compared"] > 50

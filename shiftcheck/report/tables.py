@@ -169,11 +169,25 @@ def summary_dict(res, created: str | None = None) -> dict:
     }
 
 
+def _json_default(o):
+    """numpy scalars/arrays in the summary (e.g. Seq_IDs from the mapping) as plain JSON."""
+    if isinstance(o, np.integer):
+        return int(o)
+    if isinstance(o, np.floating):
+        return _num(o)
+    if isinstance(o, np.bool_):
+        return bool(o)
+    if isinstance(o, np.ndarray):
+        return o.tolist()
+    raise TypeError(f"not JSON serialisable: {type(o).__name__}")
+
+
 def write_tables(res, outdir: str | os.PathLike) -> list[Path]:
     """Write ranking.csv, residues.csv and summary.json into ``outdir`` (atomic per file)."""
     out = Path(outdir)
     paths = [out / "ranking.csv", out / "residues.csv", out / "summary.json"]
     _atomic_write(paths[0], _csv(ranking_rows(res), RANKING_COLUMNS))
     _atomic_write(paths[1], _csv(residue_rows(res), RESIDUE_COLUMNS))
-    _atomic_write(paths[2], json.dumps(summary_dict(res), indent=1, allow_nan=False) + "\n")
+    _atomic_write(paths[2], json.dumps(summary_dict(res), indent=1, allow_nan=False,
+                                                default=_json_default) + "\n")
     return paths
