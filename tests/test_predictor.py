@@ -1,0 +1,96 @@
+"""The predictor on real structures (SHIFTCHECK_REALDATA) and on its own building blocks."""
+import csv
+
+import numpy as np
+import pytest
+
+from shiftcheck.cli import main
+from shiftcheck.io.coords import read_models
+from shiftcheck.predict.conformation import fourier_1d, fourier_2d
+from shiftcheck.predict.model import TERMS, Predictor, predict
+
+
+def test_fourier_basis_nan_is_zero_and_periodic():
+    names, f = fourier_1d(np.array([np.nan, 30.0, 390.0]), 2, "x")
+    assert names == ["xcos1", "xsin1", "xcos2", "xsin2"]
+    assert np.all(f[0] == 0) and np.allclose(f[1], f[2])
+    names, f2 = fourier_2d(np.array([-60.0]), np.array([np.nan]), 2)
+    assert len(names) == 4 + 4 + 16
+    assert np.all(f2[0, 4:] == 0) and np.any(f2[0, :4] != 0)
+
+
+@pytest.fixture(scope="session")
+def ubq(realdata):
+    return read_models([str(realdata / "ubiquitin" / "1D3Z.pdb")])[0]
+
+
+def test_terms_sum_and_shapes(ubq):
+    pred = Predictor().predict(ubq)
+    assert pred.values.shape == (ubq.n_models, len(pred))
+    assert set(TERMS) <= set(pred.terms)
+    total = sum(pred.terms.values())
+    ok = np.isfinite(pred.values)
+    assert ok.mean() > 0.99
+    assert np.allclose(total[ok], pred.values[ok])
+    for nuc in ("H", "HA", "CA", "CB", "C", "N", "HMe", "Haro"):
+        assert (pred.nucleus == nuc).sum() > 10
+    # helix residues of ubiquitin (23-34) have CA above random coil (Spera & Bax 1991)
+    helix = np.isin(pred.res_seq, np.arange(24, 33)) & (pred.nucleus == "CA")
+    assert np.mean(pred.values[0, helix] - pred.terms["random_coil"][0, helix]) > 1.0
+    # strand residues 1-7: CA below random coil
+    strand = np.isin(pred.res_seq, np.arange(2, 7)) & (pred.nucleus == "CA")
+    assert np.mean(pred.values[0, strand] - pred.terms["random_coil"][0, strand]) < -0.5
+
+
+def test_ring_model_choice_changes_only_ring_sensitive_terms(ubq):
+    a = predict(ubq, ring_model="point-dipole")
+    b = predict(ubq, ring_model="johnson-bovey")
+    assert a.values.shape == b.values.shape
+    assert not np.allclose(a.terms["ring_current"], b.terms["ring_current"])
+
+
+def test_stripped_hydrogens_give_close_predictions(realdata, tmp_path):
+    src = realdata / "ubiquitin" / "1D3Z.pdb"
+    lines = src.read_text().splitlines(keepends=True)
+    keep = [ln for ln in lines if not (ln.startswith("ATOM") and ln[76:78].strip() == "H")]
+    stripped = tmp_path / "1D3Z_noH.pdb"
+    stripped.write_text("".join(keep))
+    full = read_models([str(src)])[0].select_models([0])
+    noh = read_models([str(stripped)])[0].select_models([0])
+    assert noh.built.any()
+    p1, p2 = predict(full), predict(noh)
+    k1 = {(r, a): i for i, (r, a) in enumerate(zip(p1.res_index, p1.atom_id))}
+    for nuc, tol in (("H", 0.1), ("HA", 0.05)):
+        idx = [(k1[(r, a)], j) for j, (r, a, n) in enumerate(zip(p2.res_index, p2.atom_id, p2.nucleus))
+               if n == nuc and (r, a) in k1]
+        assert len(idx) > 50
+        i1, i2 = np.array(idx).T
+        d = p1.values[0, i1] - p2.values[0, i2]
+        assert np.nanmedian(np.abs(d)) < tol, nuc
+
+
+def test_predict_every_realdata_file(realdata):
+    pr = Predictor()
+    for path in sorted(realdata.glob("*/*.pdb")):
+        for ens in read_models([str(path)]):
+            pred = pr.predict(ens.select_models([0]))
+            assert np.isfinite(pred.values).mean() > 0.95, path.name
+
+
+def test_predict_command_csv(realdata, tmp_path, capsys):
+    out = tmp_path / "pred.csv"
+    rc = main(["predict", str(realdata / "ubiquitin" / "1ubq.pdb"), "-o", str(out)])
+    assert rc == 0
+    rows = list(csv.DictReader(out.open()))
+    assert rows and set(TERMS) <= set(rows[0])
+    r = rows[0]
+    assert float(r["predicted"]) == pytest.approx(sum(float(r[t]) for t in TERMS), abs=0.01)
+    assert main(["predict", str(realdata / "ubiquitin" / "1ubq.pdb"), "--ring-model", "point-dipole"]) == 0
+    assert "random_coil" in capsys.readouterr().out
+
+
+def test_bad_params_exit_2(realdata, tmp_path, capsys):
+    bad = tmp_path / "p.json"
+    bad.write_text("[]")
+    assert main(["predict", str(realdata / "ubiquitin" / "1ubq.pdb"), "--params", str(bad)]) == 2
+    assert str(bad) in capsys.readouterr().err
