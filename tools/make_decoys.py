@@ -140,6 +140,12 @@ def make_decoys(native, n: int = 24, seed: int = 1, pool: int = 12, max_rmsd: fl
             if not free:
                 break
             chosen.append(min(free, key=lambda c: abs(rmsd[c] - t)))
+    spare = [c for c in np.flatnonzero(~clash & (rmsd > 0.3)) if c not in chosen]
+    while len(chosen) < n and spare:      # one kind short of candidates: fill from the other
+        t = np.linspace(1.0, max_rmsd, n)[len(chosen)]
+        c = min(spare, key=lambda c: abs(rmsd[c] - t))
+        chosen.append(c)
+        spare.remove(c)
     chosen = np.array(chosen, dtype=int)
     names = [f"decoy{j + 1:02d}_{kinds[c][:3]}" for j, c in enumerate(chosen)]
     dec = dataclasses.replace(nat, coords=xyz[chosen], model_names=names, name="decoys",
