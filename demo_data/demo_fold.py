@@ -17,7 +17,7 @@ import numpy as np
 
 from shiftcheck.structure.builder import build_backbone, geometry_table, place_atom
 
-__all__ = ["Design", "fold", "kabsch_rmsd", "ss_torsions"]
+__all__ = ["Design", "fold", "polish", "refine", "kabsch_rmsd", "ss_torsions"]
 
 HELIX = (-63.0, -42.0)
 STRAND = (-120.0, 130.0)

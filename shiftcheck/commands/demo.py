@@ -90,7 +90,8 @@ def _report_lines(found: dict, planted: dict, outdir: Path) -> list[str]:
         base = model.split("#")[0]
         lines.append(f"  {rank}. {model:<22} score {score:6.2f}   [{kinds.get(base, 'ensemble mean')}]")
     ok = found["best_model"].split("#")[0] == truth
-    lines.append(f"Best model: {found['best_model']}  ({'the true fold, as planted' if ok else 'NOT the true fold ' + truth})")
+    verdict = "the true fold, as planted" if ok else "NOT the true fold " + truth
+    lines.append(f"Best model: {found['best_model']}  ({verdict})")
     c = found["offsets"].get("C", {})
     if c.get("value") is not None:
         lines.append(f"13C referencing offset: {c['value']:+.2f} ppm (95% {c['low']:+.2f} to {c['high']:+.2f}; "
@@ -105,7 +106,8 @@ def _report_lines(found: dict, planted: dict, outdir: Path) -> list[str]:
         lines.append(f"  {comp} {seq}: {', '.join(atoms)}{note}")
     lo, hi = planted["missing"]["residues"][0], planted["missing"]["residues"][-1]
     lines.append(f"Planted gap: residues {lo}-{hi} have no assignments (left out of the comparison).")
-    lines.append("This protein, its lab and its data are invented; see demo_data/README.md.")
+    lines.append("This protein, its lab and its data are invented "
+                 "(see demo_data/README.md in the shiftcheck source).")
     return lines
 
 
