@@ -16,6 +16,13 @@ Groups of equivalent protons (documented in docs/outputs.md):
   stereospecific (ambiguity code other than 1) are compared under the better of the two
   assignments, chosen per model (:func:`resolve_stereo`). A lone member of such a pair is
   compared with the mean prediction of both members.
+
+Chain termini: the free amine of the first residue of the entity and the carboxylate of the last
+change the nearby shifts by several ppm, and the predictor (like the random-coil tables it starts
+from, which are measured inside peptides) has no term for them. So N, H and C of the first
+residue of the entity sequence and C of the last are left out ("chain terminus"). The entity
+sequence, not the model, defines the ends: a model that lacks a disordered tail has no real
+terminus where its coordinates stop.
 """
 from __future__ import annotations
 
@@ -39,6 +46,11 @@ _RING_PAIR = {("PHE", "HD2"): "HD1", ("PHE", "HE2"): "HE1", ("TYR", "HD2"): "HD1
 #: Stereo pairs (group names) compared under the better of the two assignments.
 STEREO_PAIRS: dict[str, tuple[str, str]] = {"GLY": ("HA2", "HA3"), "VAL": ("HG11", "HG21"),
                                             "LEU": ("HD11", "HD21")}
+
+
+#: Atoms left out at the ends of the entity (see module docstring).
+_N_TERMINAL = ("N", "H", "C")
+_C_TERMINAL = ("C",)
 
 
 def group_name(comp_id: str, atom_id: str) -> str:
@@ -161,6 +173,8 @@ def build_comparison(shifts, ensembles, mappings, predictions, placeholders=(0.0
     # --- measured groups -------------------------------------------------------------
     groups: dict[tuple[int, str], dict] = {}
     seen: set[tuple[int, str]] = set()
+    ends = np.asarray(shifts.sequence_seq_ids if len(shifts.sequence_seq_ids) else shifts.seq_id, dtype=int)
+    first, last = (int(ends.min()), int(ends.max())) if ends.size else (None, None)
     for sid, comp, atom, val, amb in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id, shifts.value,
                                          shifts.ambiguity):
         sid, comp, atom = int(sid), str(comp), str(atom)
@@ -168,6 +182,9 @@ def build_comparison(shifts, ensembles, mappings, predictions, placeholders=(0.0
         cls = nucleus_class(comp, atom)
         if cls is None:
             leave("not a scored nucleus", label)
+            continue
+        if (sid == first and atom in _N_TERMINAL) or (sid == last and atom in _C_TERMINAL):
+            leave("chain terminus", label)
             continue
         if (sid, atom) in seen:
             leave("duplicated atom (first value kept)", label)
