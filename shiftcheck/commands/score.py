@@ -11,6 +11,8 @@ import sys
 
 import numpy as np
 
+from ..errors import InputError
+
 __all__ = ["add_parser", "run", "console_summary", "add_common_options"]
 
 
@@ -52,6 +54,10 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--force", action="store_true", help="write into a non-empty OUTDIR")
     p.add_argument("--quiet", action="store_true", help="no console summary, no progress bar")
     p.add_argument("--no-report", action="store_true", help="skip the PDF/PNG report")
+    p.add_argument("--plots", metavar="FORMATS", default="png",
+                   help="comma-separated figure formats written to OUTDIR/plots: png, svg (default: png)")
+    p.add_argument("--show", metavar="MODEL", action="append", default=[],
+                   help="also draw the correlation page for this model (repeatable)")
     return p
 
 
@@ -144,6 +150,11 @@ def run(args) -> int:
     from ..score.scoring import score
 
     inputs = [args.shifts, *args.models] + ([args.params] if args.params else [])
+    if not args.no_report:                               # fail early on a bad format too
+        from ..report.pdf import PLOT_FORMATS
+        bad = [f for f in args.plots.split(",") if f.strip() and f.strip().lower() not in PLOT_FORMATS]
+        if bad:
+            raise InputError(f"--plots: unknown plot format '{bad[0]}' (choose from {', '.join(PLOT_FORMATS)})")
     check_outdir(args.outdir, args.force, inputs)        # fail early, before the work
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
     ensembles = read_models(args.models, chain=args.chain)
@@ -159,7 +170,8 @@ def run(args) -> int:
                 if exc.name != "shiftcheck.report.pdf":
                     raise
             else:
-                write_report(tmp)
+                formats = tuple(f.strip().lower() for f in args.plots.split(",") if f.strip())
+                write_report(tmp, formats=formats, show=tuple(args.show))
     if not args.quiet:
         print(console_summary(res, outdir=args.outdir))
     return 0

@@ -199,16 +199,20 @@ def _correlation_panel(ax, data, res, model, x) -> int:
     sel = (res.nucleus == x) & np.isfinite(res.measured) & np.isfinite(res.predicted)
     sub = res.select(sel)
     col = st.nucleus_colour(x)
+    # plot the measured shifts as compared: minus the referencing correction of the row
+    off = np.where(np.isfinite(sub.offset), sub.offset, 0.0)
+    meas = sub.measured - off
+    rereferenced = bool(np.any(off != 0.0))
     flagged = sub.flag != ""
     every = np.array(["every" in f for f in sub.flag])
-    ax.scatter(sub.predicted[~flagged], sub.measured[~flagged], s=9, c=col, edgecolors="none",
+    ax.scatter(sub.predicted[~flagged], meas[~flagged], s=9, c=col, edgecolors="none",
                alpha=0.8, gid=f"scatter:{x}")
     for mask, marker in ((flagged & every, "s"), (flagged & ~every, "^")):
         if mask.any():
-            ax.scatter(sub.predicted[mask], sub.measured[mask], s=26, c=col, marker=marker,
+            ax.scatter(sub.predicted[mask], meas[mask], s=26, c=col, marker=marker,
                        edgecolors="black", linewidths=0.9, zorder=3, gid=f"flagged:{x}")
-    lo = float(min(sub.measured.min(), sub.predicted.min()))
-    hi = float(max(sub.measured.max(), sub.predicted.max()))
+    lo = float(min(meas.min(), sub.predicted.min()))
+    hi = float(max(meas.max(), sub.predicted.max()))
     pad = 0.06 * max(hi - lo, 0.5)
     ax.plot([lo - pad, hi + pad], [lo - pad, hi + pad], color="black", lw=0.7, zorder=1)
     ax.set_xlim(lo - pad, hi + pad)
@@ -217,7 +221,7 @@ def _correlation_panel(ax, data, res, model, x) -> int:
     iso = st.ISOTOPE_LABEL[st.OFFSET_TYPE[x]]
     ax.set_title(f"{x} ({iso})", color="black", loc="left")
     ax.set_xlabel("predicted (ppm)")
-    ax.set_ylabel("measured (ppm)")
+    ax.set_ylabel("measured - offset (ppm)" if rereferenced else "measured (ppm)")
     rmsd, r, n = _panel_stats(data, sub, model, x)
     ax.text(0.03, 0.97, f"RMSD {rmsd:.2f} ppm\nr {r:.3f}\nN {int(n) if np.isfinite(n) else '-'}",
             transform=ax.transAxes, va="top", ha="left", fontsize=st.SMALL)
@@ -228,7 +232,7 @@ def _correlation_panel(ax, data, res, model, x) -> int:
     idx = np.flatnonzero(flagged)
     idx = idx[np.argsort(-zs[idx], kind="stable")]
     labels = [residue_label(sub.seq_id[i], sub.comp_id[i], sub.atom_id[i], x) for i in idx]
-    placed = place_labels(ax, sub.predicted[idx], sub.measured[idx], labels, max_labels=MAX_LABELS)
+    placed = place_labels(ax, sub.predicted[idx], meas[idx], labels, max_labels=MAX_LABELS)
     return len(idx) - placed
 
 
