@@ -3,7 +3,7 @@ PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
 
-.PHONY: demo test install clean
+.PHONY: demo test install clean validation bench
 
 $(BIN)/shiftcheck: pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -21,3 +21,14 @@ test: install
 
 clean:
 	rm -rf $(VENV) demo_output
+
+# Regenerates docs/validation.md (both sections) from the public data in $(SHIFTCHECK_REALDATA).
+SHIFTCHECK_REALDATA ?= ../shared/realdata
+validation: install
+	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_predictor.py
+	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_scoring.py
+
+bench: install
+	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python benchmarks/bench_read.py
+	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python benchmarks/bench_predict.py
+	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python benchmarks/bench_score.py
