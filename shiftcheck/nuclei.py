@@ -51,3 +51,29 @@ def nucleus_class(comp_id: str, atom_id: str) -> str | None:
 def isotope_of(atom_id: str) -> str:
     """'H', 'C', 'N', 'O' or 'S' from the first letter of an IUPAC atom name."""
     return atom_id[:1].upper()
+
+
+#: Atoms whose shifts the charged chain ends move by several ppm (free amine of the first residue,
+#: carboxylate of the last). The predictor has no term for them (its random-coil table is measured
+#: inside peptides), so calibration and scoring leave them out. Common practice, no single source.
+N_TERMINAL_ATOMS: tuple[str, ...] = ("N", "H", "C")
+C_TERMINAL_ATOMS: tuple[str, ...] = ("C",)
+
+
+def entity_ends(shifts) -> tuple[int | None, int | None]:
+    """First and last Seq_ID of the entity sequence of a ShiftList (of its shifts if no sequence).
+
+    The entity, not a model, defines the chain ends: a model lacking a disordered tail has no
+    real terminus where its coordinates stop.
+    """
+    import numpy as np
+
+    ids = shifts.sequence_seq_ids if len(shifts.sequence_seq_ids) else shifts.seq_id
+    ids = np.asarray(ids, dtype=int)
+    return (int(ids.min()), int(ids.max())) if ids.size else (None, None)
+
+
+def at_chain_terminus(seq_id: int, atom_id: str, ends: tuple[int | None, int | None]) -> bool:
+    """True for N, H, C of the first residue of the entity and C of the last."""
+    first, last = ends
+    return (seq_id == first and atom_id in N_TERMINAL_ATOMS) or (seq_id == last and atom_id in C_TERMINAL_ATOMS)

@@ -8,7 +8,7 @@ Procedure
 ---------
 1. For each pair, map the shift list onto the model by sequence alignment, build the features of
    every model and average them over the models (NMR ensembles), and take measured − random coil
-   as the target.
+   as the target. Chain-terminus atoms are left out (:func:`shiftcheck.nuclei.at_chain_terminus`).
 2. Rows of a shift list share a weight of 1 (a list paired with two structures gives each pair
    weight 1/2), so every protein counts once.
 3. Solve; estimate one referencing offset per shift list and nucleus class as the median residual,
@@ -28,6 +28,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import InputError
+from ..nuclei import at_chain_terminus, entity_ends
 from .features import StructureFeatures
 from .params import FORMAT
 from .randomcoil import load_table
@@ -100,9 +101,10 @@ def build_dataset(shifts, ens, seq_to_res: dict, label: str, group: str, weight:
     t = sf.targets
     lookup = {(int(r), str(a)): k for k, (r, a) in enumerate(zip(t.res_index, t.atom_id))}
     meas = np.full(len(t), np.nan)
+    ends = entity_ends(shifts)
     for sid, comp, atom, val in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id, shifts.value):
         r = seq_to_res.get(int(sid))
-        if r is None or str(ens.res_name[r]) != str(comp):
+        if r is None or str(ens.res_name[r]) != str(comp) or at_chain_terminus(int(sid), str(atom), ends):
             continue
         k = lookup.get((r, str(atom)))
         if k is not None and np.isfinite(val):

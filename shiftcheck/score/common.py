@@ -31,7 +31,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..nuclei import METHYL_PROTONS, nucleus_class
+from ..nuclei import METHYL_PROTONS, at_chain_terminus, entity_ends, nucleus_class
 
 __all__ = ["Comparison", "Entry", "build_comparison", "resolve_stereo", "group_name", "STEREO_PAIRS"]
 
@@ -46,11 +46,6 @@ _RING_PAIR = {("PHE", "HD2"): "HD1", ("PHE", "HE2"): "HE1", ("TYR", "HD2"): "HD1
 #: Stereo pairs (group names) compared under the better of the two assignments.
 STEREO_PAIRS: dict[str, tuple[str, str]] = {"GLY": ("HA2", "HA3"), "VAL": ("HG11", "HG21"),
                                             "LEU": ("HD11", "HD21")}
-
-
-#: Atoms left out at the ends of the entity (see module docstring).
-_N_TERMINAL = ("N", "H", "C")
-_C_TERMINAL = ("C",)
 
 
 def group_name(comp_id: str, atom_id: str) -> str:
@@ -173,8 +168,7 @@ def build_comparison(shifts, ensembles, mappings, predictions, placeholders=(0.0
     # --- measured groups -------------------------------------------------------------
     groups: dict[tuple[int, str], dict] = {}
     seen: set[tuple[int, str]] = set()
-    ends = np.asarray(shifts.sequence_seq_ids if len(shifts.sequence_seq_ids) else shifts.seq_id, dtype=int)
-    first, last = (int(ends.min()), int(ends.max())) if ends.size else (None, None)
+    ends = entity_ends(shifts)
     for sid, comp, atom, val, amb in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id, shifts.value,
                                          shifts.ambiguity):
         sid, comp, atom = int(sid), str(comp), str(atom)
@@ -183,7 +177,7 @@ def build_comparison(shifts, ensembles, mappings, predictions, placeholders=(0.0
         if cls is None:
             leave("not a scored nucleus", label)
             continue
-        if (sid == first and atom in _N_TERMINAL) or (sid == last and atom in _C_TERMINAL):
+        if at_chain_terminus(sid, atom, ends):
             leave("chain terminus", label)
             continue
         if (sid, atom) in seen:
