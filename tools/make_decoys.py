@@ -91,11 +91,14 @@ def _wrap(a):
     return (a + 180.0) % 360.0 - 180.0
 
 
-def make_decoys(native, n: int = 24, seed: int = 1, pool: int = 12, max_rmsd: float = 15.0):
+def make_decoys(native, n: int = 24, seed: int = 1, pool: int = 12, max_rmsd: float = 15.0,
+                min_rmsd: float = 1.0):
     """Decoys of model 0 of ``native``: returns (Ensemble of decoys, CA-RMSD (n,), kinds list).
 
     Half ``tertiary``, half ``secondary``; picked from a pool of ``pool * n`` candidates to cover
-    1-``max_rmsd`` A evenly (nearest candidate to each target value, without repeats).
+    ``min_rmsd``-``max_rmsd`` A evenly (nearest candidate to each target value, without repeats).
+    Candidates closer than ``min_rmsd`` to the native are not decoys (they are the native fold
+    within the precision of a structure) and are never picked.
     """
     from shiftcheck.score.secondary import assign_secondary
     from shiftcheck.structure.geometry import backbone_torsions
@@ -133,16 +136,16 @@ def make_decoys(native, n: int = 24, seed: int = 1, pool: int = 12, max_rmsd: fl
     clash = np.array([np.nanmin(np.where(far, pdist(c), np.inf)) < 3.0 for c in cas])
     chosen = []
     for half in ("tertiary", "secondary"):
-        cand = np.flatnonzero((kinds == half) & ~clash & (rmsd > 0.3))
-        targets = np.linspace(1.0, max_rmsd, n // 2 if half == "tertiary" else n - n // 2)
+        cand = np.flatnonzero((kinds == half) & ~clash & (rmsd >= min_rmsd))
+        targets = np.linspace(min_rmsd, max_rmsd, n // 2 if half == "tertiary" else n - n // 2)
         for t in targets:
             free = [c for c in cand if c not in chosen]
             if not free:
                 break
             chosen.append(min(free, key=lambda c: abs(rmsd[c] - t)))
-    spare = [c for c in np.flatnonzero(~clash & (rmsd > 0.3)) if c not in chosen]
+    spare = [c for c in np.flatnonzero(~clash & (rmsd >= min_rmsd)) if c not in chosen]
     while len(chosen) < n and spare:      # one kind short of candidates: fill from the other
-        t = np.linspace(1.0, max_rmsd, n)[len(chosen)]
+        t = np.linspace(min_rmsd, max_rmsd, n)[len(chosen)]
         c = min(spare, key=lambda c: abs(rmsd[c] - t))
         chosen.append(c)
         spare.remove(c)
