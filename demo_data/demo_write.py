@@ -109,7 +109,7 @@ def write_pdb(ens, path: Path, title: str, remarks: list[str]) -> None:
     st = _structure(ens)
     opt = gemmi.PdbWriteOptions(minimal=True)
     body = st.make_pdb_string(opt)
-    head = [f"HEADER    DE NOVO PROTEIN (INVENTED DEMO DATA)    01-JAN-00   XXXX              ",
+    head = ["HEADER    DE NOVO PROTEIN (INVENTED DEMO DATA)    01-JAN-00   XXXX              ",
             f"TITLE     {title.upper()[:69]}"]
     head += [f"REMARK 250 {r[:68]}" for r in remarks]
     head += ["EXPDTA    THEORETICAL MODEL"]

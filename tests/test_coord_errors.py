@@ -32,7 +32,7 @@ def _cases(tmp_path):
     (tmp_path / "bad.pdb.gz").write_bytes(gzip.compress(b"ATOM  ")[:12])
     (tmp_path / "adir").mkdir()
     return {
-        "missing": (tmp_path / "nope.pdb", "no such file"),
+        "missing": (tmp_path / "nope.pdb", "not found"),
         "empty": (tmp_path / "empty.pdb", "empty"),
         "blank": (tmp_path / "blank.pdb", "empty"),
         "binary": (tmp_path / "binary.pdb", "binary"),

@@ -10,7 +10,6 @@ import json
 import shutil
 import subprocess
 import sys
-from pathlib import Path
 
 import pytest
 from PIL import Image

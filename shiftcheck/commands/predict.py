@@ -63,7 +63,7 @@ def _write_atomic(path: str, text: str) -> None:
 
 def run(args) -> int:
     from ..io.coords import read_models
-    from ..predict.model import TERMS, Predictor
+    from ..predict.model import Predictor
     from ..shifts import SampleConditions
 
     predictor = Predictor(args.params, args.ring_model)

@@ -13,11 +13,8 @@ with NaN coordinates where an atom is absent.
 """
 from __future__ import annotations
 
-import gzip
 import os
 import re
-import zlib
-from pathlib import Path
 from typing import Iterable, Sequence
 
 import numpy as np
@@ -26,6 +23,7 @@ from ..errors import InputError, ShiftcheckError
 from ..shifts import ONE_TO_THREE
 from ..structure.ensemble import Ensemble
 from ..structure.names import normalise_comp_id, normalise_residue_atom_names
+from .textfile import read_text_file
 
 __all__ = ["read_models", "read_model_file", "stack_compatible", "HEAVY_ATOMS"]
 
@@ -148,30 +146,7 @@ def stack_compatible(ensembles: Iterable[Ensemble]) -> list[Ensemble]:
 # ----------------------------------------------------------------------------- reading text
 
 def _read_text(path: str) -> str:
-    p = Path(path)
-    if not p.exists():
-        raise InputError("no such file", path=path)
-    if p.is_dir():
-        raise InputError("is a directory, expected a PDB or mmCIF file", path=path)
-    try:
-        raw = p.read_bytes()
-    except OSError as exc:
-        raise InputError(f"cannot read file ({exc.strerror or exc})", path=path) from None
-    if raw[:2] == b"\x1f\x8b":
-        try:
-            raw = gzip.decompress(raw)
-        except (OSError, EOFError, zlib.error) as exc:
-            raise InputError(f"corrupt gzip data ({exc})", path=path) from None
-    if not raw.strip():
-        raise InputError("file is empty", path=path)
-    head = raw[:65536]
-    bad = len(head) - len(head.translate(None, _CONTROL))
-    if b"\x00" in head or bad > 0.01 * len(head):
-        raise InputError("binary content, expected a PDB or mmCIF text file", path=path)
-    return raw.decode("latin-1")
-
-
-_CONTROL = bytes(list(range(0, 9)) + [11, 12] + list(range(14, 32)))
+    return read_text_file(path, "PDB or mmCIF file")
 
 
 def _is_cif(text: str) -> bool:

@@ -14,18 +14,16 @@ outside; common practice, no source) with the file line.
 """
 from __future__ import annotations
 
-import gzip
 import math
 import os
-import zlib
 from collections import defaultdict
-from pathlib import Path
 
 import numpy as np
 
 from ..errors import InputError
 from ..shifts import ONE_TO_THREE, SampleConditions, ShiftList
 from ..structure.names import expand_residue_atom_names, normalise_comp_id
+from .textfile import read_text_file
 
 __all__ = ["read_shifts", "read_text", "detect_format", "build_shift_list", "choose",
            "conditions_from_rows", "VALUE_RANGE_PPM"]
@@ -81,33 +79,7 @@ def read_shifts(path: str | os.PathLike, list_id: str | None = None,
 
 def read_text(path: str) -> str:
     """File contents as text; gzip is unpacked; refuses missing, empty and binary files."""
-    p = Path(path)
-    if not p.exists():
-        raise InputError("file not found", path=path)
-    if p.is_dir():
-        raise InputError("is a directory, not a shift file", path=path)
-    try:
-        data = p.read_bytes()
-    except OSError as e:
-        raise InputError(f"cannot read file ({e.strerror or e})", path=path) from None
-    if data[:2] == b"\x1f\x8b":
-        try:
-            data = gzip.decompress(data)
-        except (OSError, EOFError, zlib.error) as e:
-            raise InputError(f"broken gzip file ({e})", path=path) from None
-    if not data.strip():
-        raise InputError("file is empty", path=path)
-    if b"\0" in data:
-        raise InputError("binary data (NUL bytes), not a text shift file", path=path)
-    try:
-        text = data.decode("utf-8")
-    except UnicodeDecodeError:
-        text = data.decode("latin-1")
-        bad = sum(1 for c in text if ord(c) < 32 and c not in "\t\n\r\f" or 0x7f <= ord(c) < 0xa0)
-        if bad > max(2, len(text) // 100):
-            raise InputError("binary data (not UTF-8 or Latin-1 text), not a shift file",
-                             path=path) from None
-    return text.replace("\r\n", "\n").replace("\r", "\n")
+    return read_text_file(path, "shift file (NMR-STAR or table)")
 
 
 def detect_format(text: str) -> str:
