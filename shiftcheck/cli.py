@@ -59,6 +59,12 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("shiftcheck: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # e.g. `shiftcheck predict model.pdb | head`: the reader left
+        import os
+
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 0
 
 
 if __name__ == "__main__":  # pragma: no cover

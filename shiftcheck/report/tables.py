@@ -183,8 +183,13 @@ def _json_default(o):
 
 
 def write_tables(res, outdir: str | os.PathLike) -> list[Path]:
-    """Write ranking.csv, residues.csv and summary.json into ``outdir`` (atomic per file)."""
+    """Write ranking.csv, residues.csv and summary.json into ``outdir`` (atomic per file).
+
+    ``outdir`` is created if needed. The command line writes into a staging directory that is
+    renamed into place (:mod:`shiftcheck.report.outdir`); library callers get per-file atomicity.
+    """
     out = Path(outdir)
+    out.mkdir(parents=True, exist_ok=True)
     paths = [out / "ranking.csv", out / "residues.csv", out / "summary.json"]
     _atomic_write(paths[0], _csv(ranking_rows(res), RANKING_COLUMNS))
     _atomic_write(paths[1], _csv(residue_rows(res), RESIDUE_COLUMNS))
