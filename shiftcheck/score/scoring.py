@@ -141,7 +141,7 @@ def score(shifts, ensembles, mappings=None, predictions=None, *, params=None, ri
 
         predictor = Predictor(params, ring_model)
         pdict, used_ring = predictor.params, predictor.ring_model
-        params_source = str(pdict.get("_path", "<dict>"))
+        params_source = _describe_params(pdict.get("_path"))
         predictions = []
         for i, ens in enumerate(ensembles):
             predictions.append(predictor.predict(ens, shifts.conditions))
@@ -205,3 +205,20 @@ def _secondary(ensembles, mappings) -> dict[str, dict]:
             out[name] = {"seq_id": [int(seq[r]) for r in keep], "ss": "".join(ss[m][r] for r in keep),
                          "method": METHOD}
     return out
+
+
+def _describe_params(path) -> str:
+    """'shipped default (params_default.json)' for the packaged file, else the path given."""
+    if path is None:
+        return "<dict>"
+    from importlib import resources
+
+    shipped = resources.files("shiftcheck.data").joinpath("params_default.json")
+    try:
+        from pathlib import Path
+
+        if Path(str(path)).resolve() == Path(str(shipped)).resolve():
+            return "shipped default (shiftcheck/data/params_default.json)"
+    except OSError:
+        pass
+    return str(path)
