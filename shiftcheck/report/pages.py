@@ -146,12 +146,20 @@ def title_page(data: ReportData) -> Figure:
 
 
 # ------------------------------------------------------------------ flags table (figure 5)
-_FLAG_COLS = [("residue", 0.0), ("atom", 0.08), ("measured", 0.15), ("predicted", 0.24),
+_FLAG_COLS = [("residue", 0.0), ("atom", 0.08), ("measured*", 0.15), ("predicted", 0.24),
               ("max |z|", 0.38), ("class", 0.45), ("rule", 0.58), ("models", 0.92)]
 _CHECK_COLS = [("residue", 0.0), ("atom", 0.08), ("rule", 0.17), ("finding", 0.31), ("source", 0.68)]
 _LEFT, _WIDTH, _TOP, _LINE = 0.06, 0.9, 0.905, 0.0175
 _CHAR_IN = 7.0 * 0.602 / 72      # DejaVu Sans Mono advance at 7 pt (0.602 em), inches
 _CLASS_TEXT = {"every": "in every model", "some": "in some models"}
+
+
+def _short_rule(rule: str) -> str:
+    """'|residual| > 3 x 0.2754 ppm (expected error of HA)' -> '|res| > 3 x 0.28 ppm'."""
+    import re
+
+    m = re.match(r"\|residual\| > ([\d.]+) x ([\d.]+) ppm", rule)
+    return f"|res| > {float(m.group(1)):g} x {float(m.group(2)):.2f} ppm" if m else rule
 
 
 def flag_rows(data: ReportData) -> list[tuple[str, list[str]]]:
@@ -187,9 +195,12 @@ def flag_rows(data: ReportData) -> list[tuple[str, list[str]]]:
             p = fmt(pred[0], ".2f") if len(set(pred)) == 1 else (
                 f"{min(pred):.2f}-{max(pred):.2f}" if pred else "-")
             klass = str(fs[0].get("class") or "")
-            rows.append(("row", [f"{comp.capitalize()} {seq}", atom, fmt(fs[0].get("measured"), ".2f"),
+            meas = fs[0].get("measured")
+            if _isnum(meas) and _isnum(fs[0].get("offset")):
+                meas = float(meas) - float(fs[0]["offset"])   # as compared: minus the offset
+            rows.append(("row", [f"{comp.capitalize()} {seq}", atom, fmt(meas, ".2f"),
                                  p, fmt(max(zs), ".1f") if zs else "-", _CLASS_TEXT.get(klass, klass),
-                                 str(fs[0].get("rule") or ""), f"{len(fs)}/{n_models}"]))
+                                 _short_rule(str(fs[0].get("rule") or "")), f"{len(fs)}/{n_models}"]))
     checks = [c for c in (s.get("data_checks") or []) if isinstance(c, dict)]
     rows.append(("section", [f"Data checks without a structure ({len(checks)} findings)"]))
     if checks:
@@ -232,7 +243,7 @@ def _layout_pages(rows) -> list[list[tuple[str, list, list]]]:
     pages_, cur, used, cols, header = [], [], 0, _FLAG_COLS, None
     for kind, cells in rows:
         if kind == "header":
-            cols = _FLAG_COLS if "measured" in cells else _CHECK_COLS
+            cols = _FLAG_COLS if "measured*" in cells else _CHECK_COLS
             header = (kind, cells, cols)
         if kind in ("row", "check"):
             n = len(max(_wrap_cells(cells, cols), key=len)) + 0.2
@@ -263,8 +274,9 @@ def flags_figure(data: ReportData, page: int = 0) -> Figure:
         fig = _new(st.A4_PORTRAIT)
         fig.text(_LEFT, 0.955, "Flagged atoms and data checks" + (f" (page {page + 1} of {n_pages})"
                  if n_pages > 1 else ""), fontsize=st.TITLE)
-        fig.text(_LEFT, 0.937, "Shifts in ppm. class: 'in every model' points at the data or the "
-                 "predictor, 'in some models' at those models. models: flagging / scored.",
+        fig.text(_LEFT, 0.941, "Shifts in ppm; measured* = measured minus the referencing offset where one "
+                 "was applied.\nclass: 'in every model' points at the data or the predictor, 'in some "
+                 "models' at those models. models: flagging / scored.", va="top", linespacing=1.3,
                  fontsize=st.SMALL, color=st.NEUTRAL)
         y = _TOP
         for kind, cells, cols in laid[page]:
