@@ -60,17 +60,37 @@ N_TERMINAL_ATOMS: tuple[str, ...] = ("N", "H", "C")
 C_TERMINAL_ATOMS: tuple[str, ...] = ("C",)
 
 
-def entity_ends(shifts) -> tuple[int | None, int | None]:
-    """First and last Seq_ID of the entity sequence of a ShiftList (of its shifts if no sequence).
+def entity_ends(shifts, ensembles=(), seq_to_res=()) -> tuple[int | None, int | None]:
+    """Seq_IDs of the residues at the charged chain ends, or None where there is no end.
 
-    The entity, not a model, defines the chain ends: a model lacking a disordered tail has no
-    real terminus where its coordinates stop.
+    The ends are the first and last Seq_ID of the entity sequence of ``shifts`` (of its shifts if
+    it has no sequence). Some files list only part of the construct (re-wrapped tables that start
+    at the first assigned residue, while the expressed protein carries a tag): so an end is
+    cancelled when a model has a residue beyond it, i.e. the mapped model residue is not the first
+    (last) residue of its chain. A model that simply stops earlier does not cancel anything.
+
+    Parameters
+    ----------
+    shifts : ShiftList
+    ensembles : sequence of Ensemble, optional
+    seq_to_res : sequence of dict, optional
+        One Seq_ID -> residue-index map per ensemble (``Mapping.seq_to_res``).
     """
     import numpy as np
 
     ids = shifts.sequence_seq_ids if len(shifts.sequence_seq_ids) else shifts.seq_id
     ids = np.asarray(ids, dtype=int)
-    return (int(ids.min()), int(ids.max())) if ids.size else (None, None)
+    if not ids.size:
+        return None, None
+    first, last = int(ids.min()), int(ids.max())
+    for ens, s2r in zip(ensembles, seq_to_res):
+        r = s2r.get(first)
+        if first is not None and r is not None and r > 0:
+            first = None
+        r = s2r.get(last)
+        if last is not None and r is not None and r < ens.n_residues - 1:
+            last = None
+    return first, last
 
 
 def at_chain_terminus(seq_id: int, atom_id: str, ends: tuple[int | None, int | None]) -> bool:

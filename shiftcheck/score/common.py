@@ -22,7 +22,9 @@ change the nearby shifts by several ppm, and the predictor (like the random-coil
 from, which are measured inside peptides) has no term for them. So N, H and C of the first
 residue of the entity sequence and C of the last are left out ("chain terminus"). The entity
 sequence, not the model, defines the ends: a model that lacks a disordered tail has no real
-terminus where its coordinates stop.
+terminus where its coordinates stop; but a model that continues past the end of the entity
+sequence shows that the listed sequence is only part of the construct, and then there is no
+terminus to leave out (:func:`shiftcheck.nuclei.entity_ends`).
 """
 from __future__ import annotations
 
@@ -168,7 +170,7 @@ def build_comparison(shifts, ensembles, mappings, predictions, placeholders=(0.0
     # --- measured groups -------------------------------------------------------------
     groups: dict[tuple[int, str], dict] = {}
     seen: set[tuple[int, str]] = set()
-    ends = entity_ends(shifts)
+    ends = entity_ends(shifts, ensembles, [mp.seq_to_res for mp in mappings])
     for sid, comp, atom, val, amb in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id, shifts.value,
                                          shifts.ambiguity):
         sid, comp, atom = int(sid), str(comp), str(atom)
