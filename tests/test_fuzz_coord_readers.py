@@ -8,13 +8,13 @@ other exception type escapes the reader (common practice, no source).
 from __future__ import annotations
 
 import numpy as np
+from _mutations import byte_op, line_op, mutate
+from conftest import realdata_dir
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from shiftcheck.errors import ShiftcheckError
 from shiftcheck.io.coords import read_models
-
-from conftest import realdata_dir
 
 
 def _base_text() -> str:
@@ -45,42 +45,6 @@ BASE = _base_text().encode()
 BASES = {".pdb": BASE, ".cif": _as_mmcif(BASE.decode())}
 LINES = BASE.split(b"\n")
 
-line_op = st.tuples(st.sampled_from(["delete", "duplicate", "swap", "scramble"]),
-                    st.integers(0, len(LINES) - 1), st.integers(0, len(LINES) - 1))
-byte_op = st.tuples(st.sampled_from(["set", "insert", "delete", "truncate"]),
-                    st.integers(0, len(BASE) - 1), st.integers(0, 255))
-
-
-def _mutate(data: bytes, lops, bops, rnd) -> bytes:
-    lines = data.split(b"\n")
-    for op, i, j in lops:
-        i, j = i % max(len(lines), 1), j % max(len(lines), 1)
-        if not lines:
-            break
-        if op == "delete":
-            del lines[i]
-        elif op == "duplicate":
-            lines.insert(j, lines[i])
-        elif op == "swap":
-            lines[i], lines[j] = lines[j], lines[i]
-        else:
-            b = bytearray(lines[i])
-            rnd.shuffle(b)
-            lines[i] = bytes(b)
-    out = bytearray(b"\n".join(lines))
-    for op, i, v in bops:
-        if not out:
-            break
-        i %= len(out)
-        if op == "set":
-            out[i] = v
-        elif op == "insert":
-            out.insert(i, v)
-        elif op == "delete":
-            del out[i]
-        else:
-            del out[i:]
-    return bytes(out)
 
 
 @settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
@@ -89,7 +53,7 @@ def _mutate(data: bytes, lops, bops, rnd) -> bytes:
 def test_mutated_files_raise_only_project_errors(tmp_path_factory, lops, bops, seed, suffix):
     import random
 
-    data = _mutate(BASES[suffix], lops, bops, random.Random(seed))
+    data = mutate(BASES[suffix], lops, bops, random.Random(seed))
     path = tmp_path_factory.mktemp("fuzz") / ("m" + suffix)
     path.write_bytes(data)
     try:

@@ -12,13 +12,13 @@ from __future__ import annotations
 import random
 
 import numpy as np
+from _mutations import byte_op, line_op, mutate
+from conftest import realdata_dir
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from shiftcheck.errors import ShiftcheckError
 from shiftcheck.io.shifts import read_shifts
-
-from conftest import realdata_dir
 
 _ROWS = 120
 
@@ -102,42 +102,6 @@ def _bases() -> dict[str, bytes]:
 
 BASES = _bases()
 
-line_op = st.tuples(st.sampled_from(["delete", "duplicate", "swap", "scramble"]),
-                    st.integers(0, 10**6), st.integers(0, 10**6))
-byte_op = st.tuples(st.sampled_from(["set", "insert", "delete", "truncate"]),
-                    st.integers(0, 10**6), st.integers(0, 255))
-
-
-def _mutate(data: bytes, lops, bops, rnd) -> bytes:
-    lines = data.split(b"\n")
-    for op, i, j in lops:
-        if not lines:
-            break
-        i, j = i % len(lines), j % len(lines)
-        if op == "delete":
-            del lines[i]
-        elif op == "duplicate":
-            lines.insert(j, lines[i])
-        elif op == "swap":
-            lines[i], lines[j] = lines[j], lines[i]
-        else:
-            b = bytearray(lines[i])
-            rnd.shuffle(b)
-            lines[i] = bytes(b)
-    out = bytearray(b"\n".join(lines))
-    for op, i, v in bops:
-        if not out:
-            break
-        i %= len(out)
-        if op == "set":
-            out[i] = v
-        elif op == "insert":
-            out.insert(i, v)
-        elif op == "delete":
-            del out[i]
-        else:
-            del out[i:]
-    return bytes(out)
 
 
 def test_bases_read_cleanly(tmp_path):
@@ -151,7 +115,7 @@ def test_bases_read_cleanly(tmp_path):
 @given(lops=st.lists(line_op, max_size=6), bops=st.lists(byte_op, max_size=6),
        seed=st.integers(0, 2**16), base=st.sampled_from(sorted(BASES)))
 def test_mutated_shift_files_raise_only_project_errors(tmp_path_factory, lops, bops, seed, base):
-    data = _mutate(BASES[base], lops, bops, random.Random(seed))
+    data = mutate(BASES[base], lops, bops, random.Random(seed))
     path = tmp_path_factory.mktemp("fuzz") / "m.str"
     path.write_bytes(data)
     try:
