@@ -9,23 +9,12 @@ Targets are every proton plus N, CA, CB, C of the chain, in all models of the fi
 """
 from __future__ import annotations
 
-import os
-import sys
-import time
-from pathlib import Path
+
+from _timing import best_of, realdata_root
 
 import numpy as np
 
 FILES = [("ubiquitin", "1D3Z.pdb"), ("hr3102a", "2KRK.pdb"), ("ci2", "3CI2.pdb")]
-
-
-def best_of(fn, n=3) -> float:
-    times = []
-    for _ in range(n):
-        t = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t)
-    return min(times)
 
 
 def main() -> int:
@@ -34,10 +23,7 @@ def main() -> int:
     from shiftcheck.predict.hbond import hbond_features
     from shiftcheck.predict.ringcurrent import RING_MODELS, ring_current_factors
 
-    root = Path(os.environ.get("SHIFTCHECK_REALDATA", "../shared/realdata"))
-    if not root.is_dir():
-        print(f"set SHIFTCHECK_REALDATA to the folder of public files (tried {root})", file=sys.stderr)
-        return 2
+    root = realdata_root()
     print(f"{'file':10s} {'models':>6s} {'atoms':>6s} {'targets':>7s} {'term':>14s} {'s/call':>8s} {'targets*models/s':>17s}")
     for folder, name in FILES:
         ens = read_models(root / folder / name)[0]

@@ -11,21 +11,11 @@ atom sites in the file (all models), so the figures compare with other readers' 
 """
 from __future__ import annotations
 
-import os
 import sys
-import time
-from pathlib import Path
+
+from _timing import best_of, realdata_root
 
 FILES = [("ubiquitin", "1D3Z.pdb"), ("hr3102a", "2KRK.pdb")]
-
-
-def best_of(fn, n=3) -> float:
-    times = []
-    for _ in range(n):
-        t = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t)
-    return min(times)
 
 
 def main() -> int:
@@ -33,10 +23,7 @@ def main() -> int:
 
     from shiftcheck.io.coords import read_models
 
-    root = Path(os.environ.get("SHIFTCHECK_REALDATA", "../shared/realdata"))
-    if not root.is_dir():
-        print(f"set SHIFTCHECK_REALDATA to the folder of public files (tried {root})", file=sys.stderr)
-        return 2
+    root = realdata_root()
     print(f"{'file':10s} {'models':>6s} {'atoms':>8s} {'gemmi parse':>14s} {'read_models':>14s} {'+ hydrogens':>14s}")
     for folder, name in FILES:
         path = root / folder / name
