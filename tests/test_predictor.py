@@ -6,7 +6,7 @@ import pytest
 
 from shiftcheck.cli import main
 from shiftcheck.io.coords import read_models
-from shiftcheck.predict.conformation import fourier_1d, fourier_2d
+from shiftcheck.predict.conformation import conformation_features, fourier_1d, fourier_2d, neighbour_block
 from shiftcheck.predict.model import TERMS, Predictor, predict
 
 
@@ -17,6 +17,32 @@ def test_fourier_basis_nan_is_zero_and_periodic():
     names, f2 = fourier_2d(np.array([-60.0]), np.array([np.nan]), 2)
     assert len(names) == 4 + 4 + 16
     assert np.all(f2[0, 4:] == 0) and np.any(f2[0, :4] != 0)
+
+
+def test_neighbour_blocks_take_the_neighbours_torsions():
+    # definition of the blocks (common practice, no source): the value at residue i is the
+    # Fourier term of residue i + offset; no neighbour (chain end) gives 0
+    phi = np.array([[np.nan, -60.0, -120.0, 70.0]])
+    psi = np.array([[140.0, -40.0, 130.0, np.nan]])
+    tors = {"phi": phi, "psi": psi}
+    names, f = neighbour_block(tors, "psi", -1, 2)
+    assert names == ["psi_prev_cos1", "psi_prev_sin1", "psi_prev_cos2", "psi_prev_sin2"]
+    assert np.all(f[0, 0] == 0)
+    assert np.allclose(f[0, 1:], fourier_1d(psi[0, :-1], 2, "")[1])
+    names, f = neighbour_block(tors, "phi", 1, 1)
+    assert names == ["phi_next_cos1", "phi_next_sin1"] and np.all(f[0, 3] == 0)
+    assert np.allclose(f[0, 1], [np.cos(np.radians(-120.0)), np.sin(np.radians(-120.0))])
+    names, f = neighbour_block(tors, "phi_psi", -1, 1)
+    assert len(names) == 8 and names[0] == "prev:phi_cos1"
+    assert np.allclose(f[0, 2], fourier_2d(phi[0, 1:2], psi[0, 1:2], 1)[1][0])
+    with pytest.raises(ValueError):
+        neighbour_block(tors, "omega", 1, 1)
+    # without settings (older parameter files): psi(i-1) for N, chi1 only for CB
+    n_old, _ = conformation_features(tors, np.array(["ALA"] * 4), "N")
+    assert "psi_prev_cos2" in n_old and not any(n.startswith(("prev:", "chi1")) for n in n_old)
+    n_new, _ = conformation_features(dict(tors, chi1=phi), np.array(["ALA"] * 4), "N",
+                                     neighbours={"N": [["phi_psi", -1, 2]]}, chi1={"N": 1})
+    assert "prev:phi_sin2*psi_cos2" in n_new and "chi1_cos1" in n_new
 
 
 @pytest.fixture(scope="session")
@@ -40,6 +66,21 @@ def test_terms_sum_and_shapes(ubq):
     # strand residues 1-7: CA below random coil
     strand = np.isin(pred.res_seq, np.arange(2, 7)) & (pred.nucleus == "CA")
     assert np.mean(pred.values[0, strand] - pred.terms["random_coil"][0, strand]) < -0.5
+
+
+def test_anisotropy_term_only_where_fitted(ubq):
+    # the shipped parameter file names the nucleus classes with the peptide-anisotropy group
+    pred = Predictor()
+    used = {n for n, g in pred.params["groups"].items() if "anisotropy" in g}
+    assert used, "no class uses the anisotropy term"
+    p = pred.predict(ubq)
+    a = p.terms["anisotropy"]
+    on = np.isin(p.nucleus, sorted(used))
+    assert np.all(a[:, ~on] == 0)
+    # McConnell term of a backbone proton in a folded protein: nonzero, well below 1 ppm
+    # in magnitude on average (order of magnitude from memory)
+    assert np.mean(np.abs(a[:, on]) > 0) > 0.9
+    assert 0.005 < np.mean(np.abs(a[:, on])) < 0.5
 
 
 def test_ring_model_choice_changes_only_ring_sensitive_terms(ubq):

@@ -24,7 +24,7 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 import realdata_pairs as rp  # noqa: E402
 
-from shiftcheck.predict.calibrate import collect, fit_rows, load_settings  # noqa: E402
+from shiftcheck.predict.calibrate import collect, fit_rows, load_settings, ridge_lambda  # noqa: E402
 
 NUCLEI = ("H", "HA", "CA", "CB", "C", "N", "HMe", "Haro")
 BACKBONE = ("H", "HA", "CA", "CB", "C", "N")
@@ -32,17 +32,19 @@ GOALS = {"H": 0.45, "HA": 0.25, "CA": 0.95, "CB": 1.05, "C": 1.0, "N": 2.4}
 STEPS = [("random coil (table + corrections)", ()),
          ("+ residue-type offsets", ("offset",)),
          ("+ backbone conformation", ("offset", "conformation")),
-         ("+ neighbour residues (N only)", ("offset", "conformation", "neighbour")),
+         ("+ neighbour residue types (N only)", ("offset", "conformation", "neighbour")),
          ("+ ring currents", ("offset", "conformation", "neighbour", "ring_current")),
-         ("+ hydrogen bonds (full model)", ("offset", "conformation", "neighbour", "ring_current", "hbond"))]
+         ("+ hydrogen bonds", ("offset", "conformation", "neighbour", "ring_current", "hbond")),
+         ("+ peptide anisotropy (full model)",
+          ("offset", "conformation", "neighbour", "ring_current", "hbond", "anisotropy"))]
 BEGIN, END = "<!-- BEGIN predictor -->", "<!-- END predictor -->"
 
 
 def loo(ds, nuc, groups, rm, settings):
     """{dataset index: (measured, pred model 1, pred ensemble mean)} from leave-one-list-out fits."""
-    lam = float(settings["ridge_lambda"]["value"])
+    lam = ridge_lambda(settings, nuc)
     it = int(settings["referencing_iterations"]["value"])
-    orders = (int(settings["conformation"]["order"]), int(settings["conformation"]["class_order"]))
+    orders = settings["conformation"]
     out = {}
     if groups:
         names, X, y, d, w = collect(ds, nuc, groups, rm, orders)

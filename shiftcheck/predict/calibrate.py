@@ -11,7 +11,7 @@ Procedure
    as the target. Chain-terminus atoms are left out (:func:`shiftcheck.nuclei.at_chain_terminus`).
 2. Rows of a shift list share a weight of 1 (a list paired with two structures gives each pair
    weight 1/2), so every protein counts once.
-3. Solve; estimate one referencing offset per shift list and nucleus class as the median residual,
+3. Solve (λ per nucleus class, ``ridge_lambda`` in the settings); estimate one referencing offset per shift list and nucleus class as the median residual,
    centre the offsets on their median across lists, subtract them and solve again
    (``referencing_iterations`` times), so badly referenced entries do not bias the fit.
 4. Leave one shift list out: fit on the others, predict it, subtract its median residual, and
@@ -34,11 +34,11 @@ from .params import FORMAT
 from .randomcoil import load_table
 
 __all__ = ["Pair", "Dataset", "read_pairs_file", "load_settings", "build_dataset", "load_datasets",
-           "collect", "ridge_solve", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
+           "collect", "ridge_lambda", "ridge_solve", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
 
 RING_MODELS = ("haigh-mallion", "johnson-bovey", "point-dipole")
 PROTON_CLASSES = ("H", "HA", "HMe", "Haro")
-_GROUP_RANK = {"const": 0, "res:": 1, "prev:": 2, "next:": 3, "conf:": 4, "ring:": 5, "hb:": 6}
+_GROUP_RANK = {"const": 0, "res:": 1, "prev:": 2, "next:": 3, "conf:": 4, "ring:": 5, "hb:": 6, "aniso:": 7}
 
 
 @dataclass
@@ -142,11 +142,18 @@ def _canonical(seen: dict[str, int]) -> list[str]:
     return sorted(seen, key=key)
 
 
+def ridge_lambda(settings: dict, nucleus: str) -> float:
+    """Ridge λ of one nucleus class: ``ridge_lambda.by_nucleus[nucleus]`` or ``ridge_lambda.value``."""
+    rl = settings["ridge_lambda"]
+    return float(rl.get("by_nucleus", {}).get(nucleus, rl["value"]))
+
+
 def collect(datasets: list[Dataset], nucleus: str, groups, ring_model: str, orders=(2, 1),
             names: list[str] | None = None):
     """Rows of one nucleus class: (names, X (N, k), y = measured − random coil, dataset index, weight).
 
-    Features of NMR ensembles are averaged over the models.
+    ``orders`` is the ``conformation`` setting (dict) or the two Fourier orders. Features of NMR
+    ensembles are averaged over the models.
     """
     groups = tuple(groups)
     if names is None:
@@ -222,9 +229,8 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
               ring_models=RING_MODELS) -> dict:
     """Fit all coefficients and return a parameter dict (see :mod:`shiftcheck.predict.params`)."""
     settings = settings or load_settings()
-    lam = float(settings["ridge_lambda"]["value"])
     it = int(settings["referencing_iterations"]["value"])
-    orders = (int(settings["conformation"]["order"]), int(settings["conformation"]["class_order"]))
+    orders = settings["conformation"]
     src = f"fitted by `shiftcheck calibrate` on {description or f'{len(datasets)} pairs'}"
     groups_all = sorted({d.group for d in datasets})
     gid = {g: i for i, g in enumerate(groups_all)}
@@ -232,6 +238,7 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
     for rm in ring_models:
         coeffs[rm], errors[rm], proton_sse[rm] = {}, {}, [0.0, 0.0]
         for nuc, groups in settings["groups"].items():
+            lam = ridge_lambda(settings, nuc)
             names, X, y, d, w = collect(datasets, nuc, groups, rm, orders)
             if y.size < len(names) // 4 + 2:
                 continue

@@ -4,14 +4,18 @@ The secondary-shift surface δ(φ, ψ) − δ_rc is smooth and periodic (Spera &
 113:5490 showed helix/strand shifts follow φ/ψ); a truncated Fourier series is the natural
 linear basis on the torus. Coefficients are fitted by :mod:`shiftcheck.predict.calibrate`.
 Residue classes (Gly, Pro, β-branched Val/Ile/Thr, others) get their own low-order blocks on top
-of the shared basis, because their φ/ψ surfaces differ. Undefined torsions (chain termini,
-breaks) give feature value 0, i.e. the random-coil value.
+of the shared basis, because their φ/ψ surfaces differ. Per nucleus class, Fourier blocks of
+the neighbours' torsions (e.g. ψ(i−1) for N and H, ψ(i+1) for C and CA) and of χ1 of residue i
+can be added; which ones is a calibration setting (``conformation`` in ``data/calibration.json``),
+chosen by leave-one-protein-out validation. Undefined torsions (chain termini, breaks) give
+feature value 0, i.e. the random-coil value.
 """
 from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["RESIDUE_CLASSES", "residue_class", "fourier_1d", "fourier_2d", "conformation_features"]
+__all__ = ["RESIDUE_CLASSES", "LEGACY_NEIGHBOURS", "LEGACY_CHI1", "residue_class", "fourier_1d", "fourier_2d",
+           "neighbour_block", "conformation_features"]
 
 RESIDUE_CLASSES = ("GLY", "PRO", "BETA", "OTHER")
 
@@ -54,8 +58,49 @@ def fourier_2d(phi: np.ndarray, psi: np.ndarray, order: int, prefix: str = "") -
     return names, np.concatenate(cols, axis=-1)
 
 
+#: Neighbour torsion blocks used when a parameter file names none (files written before the
+#: blocks became a setting): ψ(i−1) order 2 for H and N, φ(i+1) order 1 for C and CA.
+LEGACY_NEIGHBOURS = {"H": [["psi", -1, 2]], "N": [["psi", -1, 2]], "C": [["phi", 1, 1]], "CA": [["phi", 1, 1]]}
+#: χ1 orders used when a parameter file names none.
+LEGACY_CHI1 = {"CB": 1}
+_TORSIONS = ("phi", "psi", "phi_psi")
+
+
+def _shifted(a: np.ndarray, shift: int) -> np.ndarray:
+    """Value of residue i + shift at position i (NaN outside the chain), (n_models, n_res)."""
+    out = np.full_like(a, np.nan)
+    if shift > 0:
+        out[:, :-shift] = a[:, shift:]
+    elif shift < 0:
+        out[:, -shift:] = a[:, :shift]
+    else:
+        out[:] = a
+    return out
+
+
+def _tag(shift: int) -> str:
+    return {-1: "prev", 1: "next"}.get(shift, f"i{shift:+d}")
+
+
+def neighbour_block(torsions: dict[str, np.ndarray], kind: str, shift: int, order: int
+                    ) -> tuple[list[str], np.ndarray]:
+    """Fourier terms of a neighbour's torsion(s): ``kind`` 'phi', 'psi' (1-D) or 'phi_psi' (2-D).
+
+    Names: ``psi_prev_cos1`` (1-D, residue i−1), ``prev:phi_cos1*psi_sin2`` (2-D, residue i−1),
+    ``phi_next_sin1`` (residue i+1); other offsets are written ``i+2``, ``i-2``.
+    """
+    if kind not in _TORSIONS:
+        raise ValueError(f"unknown torsion block '{kind}' (expected one of {', '.join(_TORSIONS)})")
+    tag = _tag(int(shift))
+    if kind == "phi_psi":
+        return fourier_2d(_shifted(torsions["phi"], shift), _shifted(torsions["psi"], shift),
+                          int(order), prefix=f"{tag}:")
+    return fourier_1d(_shifted(torsions[kind], shift), int(order), f"{kind}_{tag}_")
+
+
 def conformation_features(torsions: dict[str, np.ndarray], res_name: np.ndarray, nucleus: str,
-                          order: int = 2, class_order: int = 1) -> tuple[list[str], np.ndarray]:
+                          order: int = 2, class_order: int = 1, neighbours: dict | None = None,
+                          chi1: dict | None = None) -> tuple[list[str], np.ndarray]:
     """Per-residue conformation features for one nucleus class, (n_models, n_res, n_features).
 
     Parameters
@@ -64,9 +109,14 @@ def conformation_features(torsions: dict[str, np.ndarray], res_name: np.ndarray,
         'phi', 'psi' (and 'chi1') arrays (n_models, n_res) in degrees.
     res_name : array (n_res,)
     nucleus : str
-        Nucleus class; adds ψ(i−1) terms for 'H' and 'N', φ(i+1) for 'C', χ1 for 'CB'.
+        Nucleus class.
     order, class_order : int
         Fourier orders of the shared and the residue-class-specific blocks.
+    neighbours : dict, optional
+        Nucleus class -> list of ``[kind, shift, order]`` neighbour blocks (see
+        :func:`neighbour_block`); default :data:`LEGACY_NEIGHBOURS`.
+    chi1 : dict, optional
+        Nucleus class -> Fourier order of χ1 of residue i; default :data:`LEGACY_CHI1`.
     """
     phi, psi = torsions["phi"], torsions["psi"]
     names, shared = fourier_2d(phi, psi, order)
@@ -77,20 +127,13 @@ def conformation_features(torsions: dict[str, np.ndarray], res_name: np.ndarray,
         mask = (cls == c)[None, :, None]
         blocks.append([f"{c}:{n}" for n in cn])
         feats.append(cf * mask)
-    if nucleus in ("H", "N"):
-        prev = np.full_like(psi, np.nan)
-        prev[:, 1:] = psi[:, :-1]
-        n, f = fourier_1d(prev, 2, "psi_prev_")
+    for kind, shift, k in (LEGACY_NEIGHBOURS if neighbours is None else neighbours).get(nucleus, []):
+        n, f = neighbour_block(torsions, kind, int(shift), int(k))
         blocks.append(n)
         feats.append(f)
-    if nucleus in ("C", "CA"):
-        nxt = np.full_like(phi, np.nan)
-        nxt[:, :-1] = phi[:, 1:]
-        n, f = fourier_1d(nxt, 1, "phi_next_")
-        blocks.append(n)
-        feats.append(f)
-    if nucleus == "CB" and "chi1" in torsions:
-        n, f = fourier_1d(torsions["chi1"], 1, "chi1_")
+    k_chi = (LEGACY_CHI1 if chi1 is None else chi1).get(nucleus)
+    if k_chi and "chi1" in torsions:
+        n, f = fourier_1d(torsions["chi1"], int(k_chi), "chi1_")
         blocks.append(n)
         feats.append(f)
     return [x for b in blocks for x in b], np.concatenate(feats, axis=-1)

@@ -11,9 +11,12 @@ group          term            columns
 offset         sequence        ``const`` and one indicator per residue type (``res:ALA``; side
                                chains per atom group, ``res:LEU.HD1``); fitted on top of the table
 neighbour      sequence        indicators of the preceding / following residue (``prev:PRO``)
-conformation   conformation    φ/ψ Fourier basis (:mod:`shiftcheck.predict.conformation`)
+conformation   conformation    φ/ψ Fourier basis, neighbour torsions, χ1
+                               (:mod:`shiftcheck.predict.conformation`)
 ring_current   ring_current    summed geometric factor per ring type (``ring:PHE`` ...)
 hbond          hbond           hydrogen-bond features (``hb:hn_r3`` ...)
+anisotropy     anisotropy      peptide-group McConnell terms (``aniso:co_aniso_x``, ``_z``;
+                               :mod:`shiftcheck.predict.anisotropy`)
 =============  ==============  ===================================================================
 """
 from __future__ import annotations
@@ -30,7 +33,7 @@ from .randomcoil import _methyl_key, load_table, random_coil
 __all__ = ["GROUP_TERM", "AA20", "HBOND_FEATURES", "Targets", "StructureFeatures", "find_targets"]
 
 GROUP_TERM = {"offset": "sequence", "neighbour": "sequence", "conformation": "conformation",
-              "ring_current": "ring_current", "hbond": "hbond"}
+              "ring_current": "ring_current", "hbond": "hbond", "anisotropy": "anisotropy"}
 AA20 = ("ALA", "ARG", "ASN", "ASP", "CYS", "GLN", "GLU", "GLY", "HIS", "ILE", "LEU", "LYS", "MET",
         "PHE", "PRO", "SER", "THR", "TRP", "TYR", "VAL")
 #: Hydrogen-bond features used per nucleus class (names from shiftcheck.predict.hbond).
@@ -98,6 +101,7 @@ class StructureFeatures:
     _ring: dict = field(default_factory=dict)
     _hb: dict | None = None
     _rings: object = None
+    _aniso: dict = field(default_factory=dict)
 
     @classmethod
     def from_ensemble(cls, ens, conditions=None, table: dict | None = None) -> "StructureFeatures":
@@ -126,15 +130,28 @@ class StructureFeatures:
             self._hb = hbond_features(self.ens, self.targets.atom_index)
         return self._hb
 
+    def anisotropy(self, nucleus: str) -> dict[str, np.ndarray]:
+        """McConnell peptide-group features of the targets of one nucleus class (cached)."""
+        if nucleus not in self._aniso:
+            from .anisotropy import anisotropy_features
+
+            sel = np.flatnonzero(self.targets.nucleus == nucleus)
+            self._aniso[nucleus] = anisotropy_features(self.ens, self.targets.atom_index[sel])
+        return self._aniso[nucleus]
+
     def matrix(self, nucleus: str, names: list[str] | None, groups: tuple[str, ...],
-               ring_model: str, orders: tuple[int, int] = (2, 1)
+               ring_model: str, conformation: dict | tuple[int, int] = (2, 1)
                ) -> tuple[list[str], list[str], np.ndarray, np.ndarray]:
         """Design matrix of one nucleus class.
 
         Returns (names, groups_of_columns, X (n_models, n_sel, k), selected target indices).
         With ``names`` given, the columns are returned in that order (missing ones raise KeyError).
-        ``orders`` are the Fourier orders (shared, residue-class blocks) of the φ/ψ basis.
+        ``conformation`` is the ``conformation`` setting (dict with the Fourier orders ``order``,
+        ``class_order`` and optionally ``neighbours``, ``chi1``; see
+        :func:`shiftcheck.predict.conformation.conformation_features`) or just the two orders.
         """
+        conf = (dict(conformation) if isinstance(conformation, dict)
+                else {"order": conformation[0], "class_order": conformation[1]})
         sel = np.flatnonzero(self.targets.nucleus == nucleus)
         ri = self.targets.res_index[sel]
         m = self.ens.n_models
@@ -155,7 +172,9 @@ class StructureFeatures:
                 for aa in AA20:
                     cols[f"{tag}:{aa}"] = ("neighbour", np.broadcast_to((nb == aa).astype(float), (m, sel.size)))
         if "conformation" in groups:
-            cn, cf = conformation_features(self.torsions, self.ens.res_name, nucleus, *orders)
+            cn, cf = conformation_features(self.torsions, self.ens.res_name, nucleus,
+                                           int(conf.get("order", 2)), int(conf.get("class_order", 1)),
+                                           conf.get("neighbours"), conf.get("chi1"))
             for k, n in enumerate(cn):
                 cols[f"conf:{n}"] = ("conformation", cf[:, ri, k])
         if "ring_current" in groups:
@@ -165,6 +184,9 @@ class StructureFeatures:
             hb = self.hbond()
             for f in HBOND_FEATURES[nucleus]:
                 cols[f"hb:{f}"] = ("hbond", np.nan_to_num(np.asarray(hb[f], float)[:, sel]))
+        if "anisotropy" in groups:
+            for f, g in self.anisotropy(nucleus).items():
+                cols[f"aniso:{f}"] = ("anisotropy", np.nan_to_num(g))
         if names is None:
             names = list(cols)
         X = np.zeros((m, sel.size, len(names)))

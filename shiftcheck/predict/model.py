@@ -7,7 +7,7 @@ For atom a of residue i in model m::
 
 with δ_rc from :mod:`shiftcheck.predict.randomcoil` and the features f_k from
 :mod:`shiftcheck.predict.features` (residue/neighbour offsets, φ/ψ Fourier basis, ring-current
-factors, hydrogen-bond terms). The coefficients w come from a parameter file
+factors, hydrogen-bond terms, peptide-group anisotropy). The coefficients w come from a parameter file
 (:mod:`shiftcheck.predict.params`), one set per ring-current model.
 """
 from __future__ import annotations
@@ -22,7 +22,7 @@ from .prediction import Prediction
 __all__ = ["Predictor", "predict", "TERMS"]
 
 #: Terms reported in :attr:`Prediction.terms`, in order.
-TERMS = ("random_coil", "sequence", "conformation", "ring_current", "hbond")
+TERMS = ("random_coil", "sequence", "conformation", "ring_current", "hbond", "anisotropy")
 
 
 class Predictor:
@@ -84,8 +84,7 @@ class Predictor:
             if not names:
                 continue
             conf = self.params.get("conformation", {})
-            orders = (int(conf.get("order", 2)), int(conf.get("class_order", 1)))
-            _, grp, X, sel = sf.matrix(nuc, names, groups, self.ring_model, orders)
+            _, grp, X, sel = sf.matrix(nuc, names, groups, self.ring_model, conf)
             w = np.asarray(block["values"], float)
             grp = np.asarray(grp)
             for g in np.unique(grp):
