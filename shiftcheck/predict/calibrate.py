@@ -101,7 +101,7 @@ def build_dataset(shifts, ens, seq_to_res: dict, label: str, group: str, weight:
     t = sf.targets
     lookup = {(int(r), str(a)): k for k, (r, a) in enumerate(zip(t.res_index, t.atom_id))}
     meas = np.full(len(t), np.nan)
-    ends = entity_ends(shifts)
+    ends = entity_ends(shifts, [ens], [seq_to_res])
     for sid, comp, atom, val in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id, shifts.value):
         r = seq_to_res.get(int(sid))
         if r is None or str(ens.res_name[r]) != str(comp) or at_chain_terminus(int(sid), str(atom), ends):
