@@ -66,8 +66,7 @@ def _lines(data: ReportData) -> list[tuple[str, str]]:
         if isinstance(m, dict):
             out.append(("m", f"{_base(m.get('ensemble'))} chain {m.get('chain', '-')}: identity "
                              f"{fmt(m.get('identity'), '.2f')}, coverage {fmt(m.get('coverage'), '.2f')}, "
-                             f"numbering offsets {_short(m.get('offsets'))}, mismatches "
-                             f"{_short(m.get('mismatches'))}"))
+                             f"{_short(m.get('offsets'))}, {_mismatch_text(m.get('mismatches'))}"))
     out.append(("h", f"Referencing offsets (measured - predicted; mode {s.get('reref_mode', '-')})"))
     for kind in ("H", "C", "N"):
         o = data.offset(kind)
@@ -152,6 +151,21 @@ _CHECK_COLS = [("residue", 0.0), ("atom", 0.08), ("rule", 0.17), ("finding", 0.3
 _LEFT, _WIDTH, _TOP, _LINE = 0.06, 0.9, 0.905, 0.0175
 _CHAR_IN = 7.0 * 0.602 / 72      # DejaVu Sans Mono advance at 7 pt (0.602 em), inches
 _CLASS_TEXT = {"every": "in every model", "some": "in some models"}
+
+
+def _mismatch_text(mm) -> str:
+    """'no mismatches' or 'mismatches: 12 SER/ALA 31, ...' (shift residue / model residue)."""
+    if not mm:
+        return "no mismatches"
+    parts = []
+    for item in list(mm)[:4]:
+        try:
+            seq, comp, model = item
+            parts.append(f"{seq} {comp}/{model}")
+        except (TypeError, ValueError):
+            parts.append(str(item))
+    more = f" +{len(mm) - 4} more" if len(mm) > 4 else ""
+    return f"{len(mm)} mismatch{'es' if len(mm) > 1 else ''}: " + ", ".join(parts) + more
 
 
 def _short_rule(rule: str) -> str:
