@@ -23,6 +23,7 @@ from ..errors import InputError, ShiftcheckError
 from ..shifts import ONE_TO_THREE
 from ..structure.ensemble import Ensemble
 from ..structure.names import normalise_comp_id, normalise_residue_atom_names
+from ._coord_notes import note_dropped, note_missing
 from .textfile import read_text_file
 
 __all__ = ["read_models", "read_model_file", "stack_compatible", "HEAVY_ATOMS"]
@@ -358,8 +359,8 @@ def _to_ensemble(st, path: str, chain: str | None) -> Ensemble:
     atom_res = np.array([k[0] for k in atom_keys], dtype=np.int64)
     atom_name = np.array([k[1] for k in atom_keys], dtype="U4")
     element = np.array([k[2] for k in atom_keys], dtype="U2")
-    _note_dropped(notes, chain_id, warnings)
-    _note_missing(res_name, res_seq, res_icode, atom_res, atom_name, warnings)
+    note_dropped(notes, chain_id, warnings)
+    note_missing(res_name, res_seq, res_icode, atom_res, atom_name, warnings, HEAVY_ATOMS)
     method = str(dict(st.info).get("_exptl.method", "")).strip()
     return Ensemble(name=base, sources=[path], model_names=names, chain_id=chain_id,
                     res_seq=res_seq, res_icode=res_icode, res_name=res_name, atom_res=atom_res,
@@ -407,43 +408,3 @@ def _union(per_model: list, warnings: list[str]):
     warnings.append(f"models differ in their atoms: {n_atoms} atoms absent from {n_models} model(s); "
                     "using the union of atoms with missing coordinates left empty")
     return res_keys, atom_keys, coords
-
-
-def _summ(items: list[str], k: int = 8) -> str:
-    return ", ".join(items[:k]) + (f" ... (+{len(items) - k})" if len(items) > k else "")
-
-
-def _note_dropped(notes: dict, chain_id: str, warnings: list[str]) -> None:
-    if "waters" in notes:
-        n = sum(len(v) for v in notes["waters"].values())
-        warnings.append(f"dropped {n} water molecules")
-    if "other residues" in notes:
-        parts = [f"{k} x{len(v)}" for k, v in sorted(notes["other residues"].items())]
-        warnings.append(f"dropped non-protein residues of chain {chain_id}: {_summ(parts)}")
-    if "renamed" in notes:
-        parts = [f"{k} -> {'/'.join(sorted(v))}" for k, v in sorted(notes["renamed"].items())]
-        warnings.append(f"residues read as standard amino acids: {_summ(parts)}")
-    if notes.get("altloc"):
-        warnings.append(f"{notes['altloc']} residue(s) with alternate locations: kept the conformer "
-                        "of highest occupancy (the first on ties)")
-    if "duplicate residues" in notes:
-        warnings.append(f"repeated residue numbers kept once: {_summ(sorted(notes['duplicate residues']))}")
-    if "duplicate atoms" in notes:
-        warnings.append(f"repeated atoms kept once: {_summ(sorted(notes['duplicate atoms']))}")
-
-
-def _note_missing(res_name, res_seq, res_icode, atom_res, atom_name, warnings: list[str]) -> None:
-    present: list[set] = [set() for _ in range(len(res_name))]
-    for r, a in zip(atom_res.tolist(), atom_name.tolist()):
-        present[r].add(a)
-    side, back = [], []
-    for i, (rn, have) in enumerate(zip(res_name.tolist(), present)):
-        label = f"{rn} {res_seq[i]}{res_icode[i]}"
-        if any(a not in have for a in _BACKBONE[:3]):
-            back.append(label)
-        if any(a not in have for a in HEAVY_ATOMS.get(rn, ())):
-            side.append(label)
-    if back:
-        warnings.append(f"{len(back)} residue(s) lack backbone atoms: {_summ(back)}")
-    if side:
-        warnings.append(f"{len(side)} residue(s) lack side-chain atoms: {_summ(side)}")
