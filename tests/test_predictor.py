@@ -83,6 +83,24 @@ def test_anisotropy_term_only_where_fitted(ubq):
     assert 0.005 < np.mean(np.abs(a[:, on])) < 0.5
 
 
+def test_burial_term_only_where_fitted_and_follows_packing(ubq):
+    # the shipped parameter file names the classes with the burial group (CB, C, N per
+    # docs/validation.md); the term is 0 elsewhere and varies between residues where used
+    pred = Predictor()
+    used = {n for n, g in pred.params["groups"].items() if "burial" in g}
+    assert used, "no class uses the burial term"
+    p = pred.predict(ubq)
+    b = p.terms["burial"]
+    on = np.isin(p.nucleus, sorted(used))
+    assert np.all(b[:, ~on] == 0)
+    assert np.all(np.isfinite(b[:, on]))
+    # a packing correction, not a second random-coil table: spread across residues of a few
+    # tenths of a ppm, not several ppm (order of magnitude, common knowledge, no source)
+    for nuc in used:
+        s = np.std(b[0, p.nucleus == nuc])
+        assert 0.01 < s < 1.5, (nuc, s)
+
+
 def test_ring_model_choice_changes_only_ring_sensitive_terms(ubq):
     a = predict(ubq, ring_model="point-dipole")
     b = predict(ubq, ring_model="johnson-bovey")

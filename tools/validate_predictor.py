@@ -35,8 +35,10 @@ STEPS = [("random coil (table + corrections)", ()),
          ("+ neighbour residue types (N only)", ("offset", "conformation", "neighbour")),
          ("+ ring currents", ("offset", "conformation", "neighbour", "ring_current")),
          ("+ hydrogen bonds", ("offset", "conformation", "neighbour", "ring_current", "hbond")),
-         ("+ peptide anisotropy (full model)",
-          ("offset", "conformation", "neighbour", "ring_current", "hbond", "anisotropy"))]
+         ("+ peptide anisotropy",
+          ("offset", "conformation", "neighbour", "ring_current", "hbond", "anisotropy")),
+         ("+ burial (CB, C, N; full model)",
+          ("offset", "conformation", "neighbour", "ring_current", "hbond", "anisotropy", "burial"))]
 BEGIN, END = "<!-- BEGIN predictor -->", "<!-- END predictor -->"
 
 
@@ -47,7 +49,7 @@ def loo(ds, nuc, groups, rm, settings):
     orders = settings["conformation"]
     out = {}
     if groups:
-        names, X, y, d, w = collect(ds, nuc, groups, rm, orders)
+        names, X, y, d, w = collect(ds, nuc, groups, rm, orders, burial=settings.get("burial"))
         lists = np.array([ds[k].group for k in d])
     for i, dset in enumerate(ds):
         sf = dset.features
@@ -59,7 +61,7 @@ def loo(ds, nuc, groups, rm, settings):
         if groups:
             train = lists != dset.group
             beta, _ = fit_rows(names, X[train], y[train], d[train], w[train], lam, it)
-            _, _, Xi, _ = sf.matrix(nuc, names, tuple(groups), rm, orders)
+            _, _, Xi, _ = sf.matrix(nuc, names, tuple(groups), rm, orders, settings.get("burial"))
             p1 += Xi[0] @ beta
             pm += Xi.mean(axis=0) @ beta
         out[i] = (meas[ok], p1[ok], pm[ok])

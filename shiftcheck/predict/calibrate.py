@@ -38,7 +38,8 @@ __all__ = ["Pair", "Dataset", "read_pairs_file", "load_settings", "build_dataset
 
 RING_MODELS = ("haigh-mallion", "johnson-bovey", "point-dipole")
 PROTON_CLASSES = ("H", "HA", "HMe", "Haro")
-_GROUP_RANK = {"const": 0, "res:": 1, "prev:": 2, "next:": 3, "conf:": 4, "ring:": 5, "hb:": 6, "aniso:": 7}
+_GROUP_RANK = {"const": 0, "res:": 1, "prev:": 2, "next:": 3, "conf:": 4, "ring:": 5, "hb:": 6, "aniso:": 7,
+               "bur:": 8, "hse:": 9}
 
 
 @dataclass
@@ -149,23 +150,23 @@ def ridge_lambda(settings: dict, nucleus: str) -> float:
 
 
 def collect(datasets: list[Dataset], nucleus: str, groups, ring_model: str, orders=(2, 1),
-            names: list[str] | None = None):
+            names: list[str] | None = None, burial: dict | None = None):
     """Rows of one nucleus class: (names, X (N, k), y = measured − random coil, dataset index, weight).
 
     ``orders`` is the ``conformation`` setting (dict) or the two Fourier orders. Features of NMR
-    ensembles are averaged over the models.
+    ensembles are averaged over the models. ``burial`` is the ``burial`` setting.
     """
     groups = tuple(groups)
     if names is None:
         seen: dict[str, int] = {}
         for d in datasets:
-            nm, _, _, _ = d.features.matrix(nucleus, None, groups, ring_model, orders)
+            nm, _, _, _ = d.features.matrix(nucleus, None, groups, ring_model, orders, burial)
             for n in nm:
                 seen.setdefault(n, len(seen))
         names = _canonical(seen)
     Xs, ys, ds, ws = [], [], [], []
     for i, d in enumerate(datasets):
-        _, _, X, sel = d.features.matrix(nucleus, names, groups, ring_model, orders)
+        _, _, X, sel = d.features.matrix(nucleus, names, groups, ring_model, orders, burial)
         y = d.measured[sel] - d.features.rc[:, sel].mean(axis=0)
         ok = np.isfinite(y)
         Xs.append(X.mean(axis=0)[ok]), ys.append(y[ok])
@@ -239,7 +240,7 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
         coeffs[rm], errors[rm], proton_sse[rm] = {}, {}, [0.0, 0.0]
         for nuc, groups in settings["groups"].items():
             lam = ridge_lambda(settings, nuc)
-            names, X, y, d, w = collect(datasets, nuc, groups, rm, orders)
+            names, X, y, d, w = collect(datasets, nuc, groups, rm, orders, burial=settings.get("burial"))
             if y.size < len(names) // 4 + 2:
                 continue
             beta, _ = fit_rows(names, X, y, d, w, lam, it)
@@ -264,6 +265,7 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
         "ridge_lambda": settings["ridge_lambda"],
         "referencing_iterations": settings["referencing_iterations"],
         "conformation": settings["conformation"],
+        **({"burial": settings["burial"]} if "burial" in settings else {}),
         "groups": settings["groups"],
         "coefficients": coeffs,
         "expected_error": {"source": f"{loo} RMSD (ppm, referencing offset removed) computed by "

@@ -17,6 +17,8 @@ ring_current   ring_current    summed geometric factor per ring type (``ring:PHE
 hbond          hbond           hydrogen-bond features (``hb:hn_r3`` ...)
 anisotropy     anisotropy      peptide-group McConnell terms (``aniso:co_aniso_x``, ``_z``;
                                :mod:`shiftcheck.predict.anisotropy`)
+burial         burial          contact density and half-sphere exposure (``bur:8``, ``hse:up``;
+                               :mod:`shiftcheck.predict.burial`)
 =============  ==============  ===================================================================
 """
 from __future__ import annotations
@@ -33,7 +35,8 @@ from .randomcoil import _methyl_key, load_table, random_coil
 __all__ = ["GROUP_TERM", "AA20", "HBOND_FEATURES", "Targets", "StructureFeatures", "find_targets"]
 
 GROUP_TERM = {"offset": "sequence", "neighbour": "sequence", "conformation": "conformation",
-              "ring_current": "ring_current", "hbond": "hbond", "anisotropy": "anisotropy"}
+              "ring_current": "ring_current", "hbond": "hbond", "anisotropy": "anisotropy",
+              "burial": "burial"}
 AA20 = ("ALA", "ARG", "ASN", "ASP", "CYS", "GLN", "GLU", "GLY", "HIS", "ILE", "LEU", "LYS", "MET",
         "PHE", "PRO", "SER", "THR", "TRP", "TYR", "VAL")
 #: Hydrogen-bond features used per nucleus class (names from shiftcheck.predict.hbond).
@@ -102,6 +105,7 @@ class StructureFeatures:
     _hb: dict | None = None
     _rings: object = None
     _aniso: dict = field(default_factory=dict)
+    _burial: dict = field(default_factory=dict)
 
     @classmethod
     def from_ensemble(cls, ens, conditions=None, table: dict | None = None) -> "StructureFeatures":
@@ -139,8 +143,21 @@ class StructureFeatures:
             self._aniso[nucleus] = anisotropy_features(self.ens, self.targets.atom_index[sel])
         return self._aniso[nucleus]
 
+    def burial(self, nucleus: str, settings: dict | None = None) -> dict[str, np.ndarray]:
+        """Burial features of the targets of one nucleus class (cached per settings)."""
+        import json
+
+        key = (nucleus, json.dumps(settings, sort_keys=True))
+        if key not in self._burial:
+            from .burial import burial_features
+
+            sel = np.flatnonzero(self.targets.nucleus == nucleus)
+            self._burial[key] = burial_features(self.ens, self.targets.atom_index[sel], settings)
+        return self._burial[key]
+
     def matrix(self, nucleus: str, names: list[str] | None, groups: tuple[str, ...],
-               ring_model: str, conformation: dict | tuple[int, int] = (2, 1)
+               ring_model: str, conformation: dict | tuple[int, int] = (2, 1),
+               burial: dict | None = None
                ) -> tuple[list[str], list[str], np.ndarray, np.ndarray]:
         """Design matrix of one nucleus class.
 
@@ -149,6 +166,7 @@ class StructureFeatures:
         ``conformation`` is the ``conformation`` setting (dict with the Fourier orders ``order``,
         ``class_order`` and optionally ``neighbours``, ``chi1``; see
         :func:`shiftcheck.predict.conformation.conformation_features`) or just the two orders.
+        ``burial`` is the ``burial`` setting (:func:`shiftcheck.predict.burial.burial_features`).
         """
         conf = (dict(conformation) if isinstance(conformation, dict)
                 else {"order": conformation[0], "class_order": conformation[1]})
@@ -187,6 +205,9 @@ class StructureFeatures:
         if "anisotropy" in groups:
             for f, g in self.anisotropy(nucleus).items():
                 cols[f"aniso:{f}"] = ("anisotropy", np.nan_to_num(g))
+        if "burial" in groups:
+            for f, g in self.burial(nucleus, burial).items():
+                cols[f] = ("burial", np.nan_to_num(g))
         if names is None:
             names = list(cols)
         X = np.zeros((m, sel.size, len(names)))

@@ -22,7 +22,7 @@ from .prediction import Prediction
 __all__ = ["Predictor", "predict", "TERMS"]
 
 #: Terms reported in :attr:`Prediction.terms`, in order.
-TERMS = ("random_coil", "sequence", "conformation", "ring_current", "hbond", "anisotropy")
+TERMS = ("random_coil", "sequence", "conformation", "ring_current", "hbond", "anisotropy", "burial")
 
 
 class Predictor:
@@ -84,7 +84,8 @@ class Predictor:
             if not names:
                 continue
             conf = self.params.get("conformation", {})
-            _, grp, X, sel = sf.matrix(nuc, names, groups, self.ring_model, conf)
+            _, grp, X, sel = sf.matrix(nuc, names, groups, self.ring_model, conf,
+                                      self.params.get("burial"))
             w = np.asarray(block["values"], float)
             grp = np.asarray(grp)
             for g in np.unique(grp):
