@@ -30,3 +30,25 @@ def test_tagged_construct_cancels_the_ends(realdata):
     # ... but the NMR model carries an 11-residue N-terminal tag and residues past Seq_ID 72,
     # so neither listed end is a chain end of the protein in the tube
     assert entity_ends(s, ens, [map_sequence(s, e).seq_to_res for e in ens]) == (None, None)
+
+
+def test_free_amine_nitrogen_is_not_a_range_error(realdata):
+    # BMRB 15283 (GB3, solid state) lists Met 1 N at 38.95 ppm: the free alpha-amine of the
+    # first residue (about 30-40 ppm, from memory), not an amide. The same value on an internal
+    # residue is far outside the backbone N range and must still be reported.
+    import dataclasses
+
+    import numpy as np
+
+    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.score.sanity import check_shifts
+
+    s = read_shifts(realdata / "gb3" / "bmr15283.str")
+    first_n = (s.seq_id == s.sequence_seq_ids.min()) & (s.atom_id == "N")
+    assert np.isclose(s.value[first_n][0], 38.953)
+    assert not [f for f in check_shifts(s) if f.rule == "range"]
+    moved = s.value.copy()
+    internal_n = np.flatnonzero((s.seq_id == 10) & (s.atom_id == "N"))[0]
+    moved[internal_n] = 38.953
+    bad = [f for f in check_shifts(dataclasses.replace(s, value=moved)) if f.rule == "range"]
+    assert [(f.seq_id, f.atom_id) for f in bad] == [(10, "N")]

@@ -21,7 +21,7 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
-from ..nuclei import nucleus_class
+from ..nuclei import entity_ends, nucleus_class
 from ._constants import shift_ranges
 
 __all__ = ["Finding", "check_shifts", "check_against_models"]
@@ -62,6 +62,7 @@ def check_shifts(shifts) -> list[Finding]:
     seen: dict[tuple[int, str], float] = {}
     per_res: dict[int, dict[str, float]] = {}
     comp_of: dict[int, str] = {}
+    first_seq = entity_ends(shifts)[0]   # its N is a free amine (about 30-40 ppm), not an amide
     for sid, comp, atom, iso, val in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id,
                                          shifts.atom_type, shifts.value):
         sid, comp, atom, val = int(sid), str(comp), str(atom), float(val)
@@ -80,6 +81,8 @@ def check_shifts(shifts) -> list[Finding]:
         per_res.setdefault(sid, {})[atom] = val
         cls = nucleus_class(comp, atom)
         rng = ranges.get(cls) if cls else ranges.get(f"isotope_{str(iso)[:1].upper()}")
+        if cls == "N" and sid == first_seq and not (rng["low"] <= val <= rng["high"]):
+            cls, rng = "N-terminal amine N", ranges["N_terminal_amine"]
         if rng and not (rng["low"] <= val <= rng["high"]):
             what = cls or f"{str(iso)[:1].upper()} atoms"
             out.append(Finding(sid, comp, atom, "range",
