@@ -42,3 +42,8 @@ def test_combined_score_is_rms_for_small_residuals_and_robust_for_wild_ones():
     robust = combined_score(huber_q(wild, 2.0))[0]
     plain = np.sqrt(np.mean(wild ** 2))
     assert robust < 0.5 * plain
+    # by hand (Huber 1964 loss, doubled so that q = z^2 in the quadratic zone):
+    # q = 0.25, 1, 2.25 and 2*2*(50 - 1) = 196 -> sqrt(199.5 / 4)
+    assert robust == pytest.approx(np.sqrt(199.5 / 4), rel=1e-12)
+    # an empty comparison has no score (common practice, no source)
+    assert np.isnan(combined_score(np.zeros((2, 0)))).all()

@@ -1,4 +1,8 @@
-"""Outlier classes: 'every' when flagged in all individual models, 'some' otherwise."""
+"""Outlier classes: 'every' when flagged in all individual models, 'some' otherwise.
+
+Rule checked: |z| > k flags an atom (a k-sigma outlier rule, common practice, no source); the
+class counts only the individual models, never the ensemble-mean entry (docs/outputs.md).
+Inputs are hand-built z arrays with hand-counted expectations."""
 from __future__ import annotations
 
 import numpy as np

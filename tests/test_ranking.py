@@ -40,6 +40,9 @@ def test_vectorised_bootstrap_equals_explicit_loop():
 
 
 def test_groups_and_probabilities():
+    # hand-built cases with known answers (common practice, no source): identical residuals
+    # cannot be ranked apart, doubled residuals are clearly worse; p_best is a probability
+    # distribution over models; the percentile interval holds the full-data score.
     z, residue, n_res = _data()
     S, c = per_residue_sums(huber_q(z, 2.0), residue, n_res)
     rk = rank_models(S, c, residue_weights(n_res, 500, np.random.default_rng(1)))

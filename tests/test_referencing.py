@@ -25,8 +25,13 @@ def test_residue_weights_are_multinomial_counts():
     W = residue_weights(30, 200, np.random.default_rng(0))
     assert W.shape == (200, 30)
     assert np.all(W.sum(axis=1) == 30)       # each replicate draws n residues
-    # mean count per residue is 1 (multinomial with equal probabilities)
-    assert abs(W.mean() - 1.0) < 1e-12
+    assert np.all(W >= 0) and np.array_equal(W, np.round(W))
+    # multinomial(n=30, p=1/30) counts (textbook): variance n p (1 - p) = 29/30 per residue;
+    # 6000 counts give the sample variance to about +-0.025, the tolerance is 5 sigma. (The
+    # mean count, 1, follows from the row sums alone and is therefore not checked again.)
+    assert np.var(W) == pytest.approx(29 / 30, abs=0.12)
+    # not the same draw in every replicate (a bootstrap, not a copy)
+    assert len({tuple(w) for w in W}) > 190
 
 
 @pytest.fixture(scope="module")
