@@ -44,6 +44,29 @@ def _chain(n_res=8, n_models=2, seed=4):
                     coords=coords, built=np.zeros(n_res * 6, bool))
 
 
+def test_peptide_frames_follow_the_atoms():
+    # The brute-force check below reuses peptide_frames, so the frames are checked here on
+    # their own from the atoms (geometry; frame as documented in shiftcheck.predict.anisotropy:
+    # group j = C(j), O(j), N(j+1), x along C->O, z normal to the peptide plane, origin at the
+    # C=O midpoint; common practice, no source). A group whose N(j+1) is not bonded is dropped.
+    ens = _chain(n_res=6, n_models=2)
+    ens.coords[1, ens.index(3, "N")] += np.array([0.0, 5.0, 0.0])   # break C(2)-N(3) in model 2
+    origin, x, z, res = peptide_frames(ens)
+    assert res.tolist() == list(range(6))
+    for m in range(2):
+        for j in range(6):
+            c, o = ens.coords[m, ens.index(j, "C")], ens.coords[m, ens.index(j, "O")]
+            if j == 5 or (m == 1 and j == 2):
+                assert np.isnan(origin[m, j]).all()
+                continue
+            n = ens.coords[m, ens.index(j + 1, "N")]
+            np.testing.assert_allclose(origin[m, j], (c + o) / 2, atol=1e-12)
+            np.testing.assert_allclose(x[m, j], (o - c) / np.linalg.norm(o - c), atol=1e-12)
+            assert np.linalg.norm(z[m, j]) == pytest.approx(1.0)
+            assert abs(z[m, j] @ (o - c)) < 1e-9 and abs(z[m, j] @ (n - c)) < 1e-9
+            assert z[m, j] @ np.cross(o - c, n - c) > 0           # right-handed (x, N-C, z)
+
+
 def test_matches_brute_force_and_invariant():
     ens = _chain()
     t = np.flatnonzero(np.isin(ens.atom_name, ["H", "HA"]))

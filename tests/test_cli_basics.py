@@ -15,6 +15,12 @@ def test_version(capsys):
 
 
 def test_help_lists_commands():
+    from shiftcheck.cli import COMMANDS
+
     out = subprocess.run([sys.executable, "-m", "shiftcheck", "--help"], capture_output=True, text=True)
     assert out.returncode == 0
-    assert "inspect" in out.stdout
+    for name in COMMANDS:
+        assert name in out.stdout, name
+    # an unknown sub-command is a usage error: argparse exits 2 (Python argparse docs)
+    bad = subprocess.run([sys.executable, "-m", "shiftcheck", "no-such-command"], capture_output=True, text=True)
+    assert bad.returncode == 2 and "Traceback" not in bad.stderr

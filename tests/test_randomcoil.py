@@ -64,4 +64,5 @@ def test_his_ph_titration_direction():
 
 
 def test_cis_mask():
+    # omega near 0 is cis, near 180 trans (IUPAC-IUB 1970 torsion convention); NaN is not cis
     assert cis_mask(np.array([0.0, 10.0, -170.0, 180.0, np.nan])).tolist() == [True, True, False, False, False]

@@ -39,6 +39,9 @@ def test_ca_cb_swap_rule_with_random_coil_values():
 
 
 def test_placeholders_ranges_duplicates():
+    # 0.0 and 999 are the usual "no value" fillers; Gly CA 145 ppm is ~100 ppm above any
+    # protein CA (random coil 45 ppm, Wishart et al. 1995, from memory); the same atom twice
+    # is a duplicate; Leu HA 4.3 and CG 26.5 are ordinary values (common practice, no source)
     rows = [(1, "LYS", "CA", 0.0), (1, "LYS", "N", 999.0), (2, "LYS", "H", 8.2), (2, "LYS", "H", 8.3),
             (3, "GLY", "CA", 145.0), (4, "LEU", "HA", 4.3), (4, "LEU", "CG", 26.5)]
     f = check_shifts(_list(rows))

@@ -16,6 +16,12 @@ def _write(tmp_path, text, name="t.txt"):
 
 
 def test_column_order_documented():
+    # the constant the reader uses must be the order the format description promises users
+    # (module docstring of shiftcheck/io/tables.py; common practice, no source)
+    import shiftcheck.io.tables as tables
+
+    doc = " ".join(tables.__doc__.split())
+    assert "Column order without a header: **seq_id, residue, atom, shift, error**" in doc
     assert TABLE_COLUMNS == ("seq_id", "comp_id", "atom_id", "value", "error")
 
 
