@@ -11,7 +11,7 @@ from collections import defaultdict
 import numpy as np
 import pytest
 
-from _synthetic_outdir import make_outdir
+from _synthetic_outdir import OFFSETS, make_outdir
 from shiftcheck.nuclei import nucleus_class
 from shiftcheck.report import figures as fg
 from shiftcheck.report import pages
@@ -145,7 +145,9 @@ def test_secondary_structure_track_and_method(data):
 def test_referencing_histograms(outdir, data):
     rows = _csv(outdir / "residues.csv")
     fig = fg.referencing_figure(data)
-    for x, offset, applied in (("CA", 1.234, True), ("N", -0.412, False)):
+    # offsets as planted in the synthetic summary.json (test inputs, _synthetic_outdir.OFFSETS)
+    for x, kind in (("CA", "C"), ("N", "N")):
+        offset, applied = OFFSETS[kind]["value"], OFFSETS[kind]["applied"]
         res = np.array([float(r["residual"]) for r in rows if nucleus_class(r["comp_id"], r["atom_id"]) == x])
         ax = next(a for a in fig.axes if a.get_title(loc="left").startswith(f"{x}:"))
         assert f"{offset:+.2f} ppm" in ax.get_title(loc="left")

@@ -137,6 +137,8 @@ def test_stripped_hydrogens_give_close_predictions(realdata, tmp_path):
 
 
 def test_predict_every_realdata_file(realdata):
+    # every public PDB file of the test set gets a prediction for almost every backbone atom
+    # (common practice, no source: a missing prediction would silently drop data)
     pr = Predictor()
     for path in sorted(realdata.glob("*/*.pdb")):
         for ens in read_models([str(path)]):

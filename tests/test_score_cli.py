@@ -1,5 +1,8 @@
 """``shiftcheck score`` / ``check`` end to end: outputs, columns, and every failure path
-(exit 2, one line on stderr, no output directory left behind or a pre-existing one untouched)."""
+(exit 2, one line on stderr, no output directory left behind or a pre-existing one untouched).
+
+Sources: column and key contract of docs/outputs.md; error behaviour from the project's
+input-error rules (common practice, no source); inputs are public BMRB/PDB files."""
 from __future__ import annotations
 
 import csv

@@ -93,6 +93,13 @@ def test_yppr_21_line_numbers(realdata, yppr):
     for k in (0, 100, len(v2) - 1):
         row = lines[v2.line[k] - 1]
         assert v2.comp_id[k] in row
+        nums = []
+        for tok in row.split():
+            try:
+                nums.append(float(tok))
+            except ValueError:
+                pass
+        assert v2.value[k] in nums, (k, row)
 
 
 def test_engrailed_21(realdata):
