@@ -45,7 +45,7 @@ def test_side_chain_protons():
 
 
 def test_temperature_correction_is_linear_in_T():
-    # Kjaergaard & Poulsen 2011 form: delta(T) = delta(T0) + c (T - T0)
+    # Kjaergaard, Brander & Poulsen 2011 (J. Biomol. NMR 49:139, from memory) form: delta(T) = delta(T0) + c (T - T0)
     nuc = np.array(["H", "N", "CA"])
     t0 = T["temperature"]["T0_K"]
     assert np.allclose(temperature_correction(T, nuc, t0), 0)

@@ -8,8 +8,8 @@ Corrections applied here:
 * cis Xaa-Pro bond (|ω| < 90°): CB offset (Schubert et al. 2002, J. Biomol. NMR 24:149);
 * disulfide-bonded cysteine (SG-SG below the table's distance) uses the oxidised entry
   (Sharma & Rajarathnam 2000, J. Biomol. NMR 18:165, CB near 41 vs 28 ppm);
-* temperature: linear, δ(T) = δ(T0) + c·(T − T0), in the form of Kjaergaard & Poulsen 2011
-  (J. Biomol. NMR 50:157);
+* temperature: linear, δ(T) = δ(T0) + c·(T − T0), in the form of Kjaergaard, Brander & Poulsen 2011
+  (J. Biomol. NMR 49:139; citation from memory);
 * pH: His ring protons by a Henderson-Hasselbalch titration relative to the table's pH.
 """
 from __future__ import annotations
