@@ -121,11 +121,14 @@ def console_summary(res, outdir: str | None = None, top: int = 10) -> str:
     fl = np.flatnonzero(res.outliers.flagged[best])
     lines.append(f"Flags (|residual| > {res.outliers.k:g} x expected error): "
                  f"{len(every)} atoms in every model, "
-                 f"{int(np.sum(res.outliers.klass == 'some'))} in some models; best model {len(fl)}")
+                 f"{int(np.sum(res.outliers.klass == 'some'))} in some models; "
+                 f"{len(fl)} in the best model, largest |z| first"
+                 + (" (measured minus the applied offset)" if any(o.applied for o in res.offsets.values()) else ""))
     order = sorted(fl, key=lambda j: -abs(res.z[best, j]))[:top]
     for j in order:
+        meas = comp.predicted[best, j] + res.residual[best, j]   # measured - applied offset
         lines.append(f"  {comp.seq_id[j]:>5} {comp.comp_id[j]} {comp.atom_id[j]:<5} "
-                     f"measured {comp.measured[j]:8.3f} predicted {comp.predicted[best, j]:8.3f} "
+                     f"measured {meas:8.3f} predicted {comp.predicted[best, j]:8.3f} "
                      f"z {res.z[best, j]:+6.1f}  ({res.outliers.klass[j]})")
     warn = [f for f in res.findings if f.severity == "warning"]
     lines.append("")
