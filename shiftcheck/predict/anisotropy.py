@@ -24,6 +24,7 @@ from importlib import resources
 
 import numpy as np
 
+from .ringcurrent import point_dipole
 from .rings import pairs_within
 
 __all__ = ["anisotropy_parameters", "peptide_frames", "mcconnell_axis_factor", "anisotropy_features"]
@@ -38,13 +39,12 @@ def anisotropy_parameters() -> dict:
 
 
 def mcconnell_axis_factor(points: np.ndarray, origin: np.ndarray, axis: np.ndarray) -> np.ndarray:
-    """``(1 − 3cos²θ)/r³`` (Å⁻³) with θ between ``points − origin`` and ``axis`` (any shape (..., 3))."""
-    v = np.asarray(points, float) - origin
-    a = axis / np.linalg.norm(axis, axis=-1, keepdims=True)
-    r2 = np.sum(v * v, axis=-1)
-    z = np.sum(v * a, axis=-1)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        return (1.0 - 3.0 * z * z / r2) / (r2 * np.sqrt(r2))
+    """``(1 − 3cos²θ)/r³`` (Å⁻³) with θ between ``points − origin`` and ``axis`` (any shape (..., 3)).
+
+    The same axial dipolar factor as the ring-current point dipole
+    (:func:`shiftcheck.predict.ringcurrent.point_dipole`), here about a bond axis.
+    """
+    return point_dipole(points, origin, axis)
 
 
 def peptide_frames(ens) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
