@@ -37,6 +37,9 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--chain", metavar="C", help="author chain ID in the models (default: first protein chain)")
     add_common_options(p)
     p.add_argument("--params", metavar="FILE", help="predictor parameter file (default: shipped)")
+    p.add_argument("--min-identity", metavar="F", type=float, default=None,
+                   help="lowest sequence identity accepted between the shift list and a model "
+                        "(default 0.9; lower it for mutants, knowing the mutated residues are compared too)")
     p.add_argument("--ring-model", metavar="NAME",
                    choices=["haigh-mallion", "johnson-bovey", "point-dipole"],
                    help="ring-current model (default: the parameter file's)")
@@ -158,12 +161,15 @@ def run(args) -> int:
         bad = [f for f in args.plots.split(",") if f.strip() and f.strip().lower() not in PLOT_FORMATS]
         if bad:
             raise InputError(f"--plots: unknown plot format '{bad[0]}' (choose from {', '.join(PLOT_FORMATS)})")
+    if args.min_identity is not None and not 0.0 < args.min_identity <= 1.0:
+        raise InputError(f"--min-identity must lie in (0, 1], got {args.min_identity:g}")
     check_outdir(args.outdir, args.force, inputs)        # fail early, before the work
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
     ensembles = read_models(args.models, chain=args.chain)
     res = score(shifts, ensembles, params=args.params, ring_model=args.ring_model, reref=args.reref,
                 k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
-                include_mean=not args.no_mean, progress=_Progress(args.quiet))
+                include_mean=not args.no_mean, min_identity=args.min_identity,
+                progress=_Progress(args.quiet))
     with staged_outdir(args.outdir, args.force, inputs) as tmp:
         write_tables(res, tmp)
         if not args.no_report:
