@@ -26,7 +26,7 @@ _STATS = ("rmsd", "mad", "r", "n")
 RANKING_COLUMNS = (["rank", "model", "score", "score_low", "score_high", "p_best"]
                    + [f"{s}_{x}" for x in ALL_CLASSES for s in _STATS] + ["best_group"])
 RESIDUE_COLUMNS = ["model", "chain", "seq_id", "comp_id", "atom_id", "measured", "predicted",
-                   "residual", "z", "flag", "nucleus", "offset"]
+                   "residual", "z", "flag", "nucleus", "offset", "model_res"]
 
 
 def sha256(path: str | os.PathLike) -> str | None:
@@ -84,6 +84,10 @@ def residue_rows(res):
     comp = res.comparison
     corr = res.correction
     klass = res.outliers.klass
+    model_res = {}   # (ensemble, Seq_ID) -> the model's own residue number (with insertion code)
+    for ei, (ens, mp) in enumerate(zip(res.ensembles, res.mappings)):
+        for sid, r in mp.seq_to_res.items():
+            model_res[(ei, int(sid))] = f"{ens.res_seq[r]}{ens.res_icode[r]}"
     for e, entry in enumerate(comp.entries):
         for j in range(len(comp)):
             flagged = bool(res.outliers.flagged[e, j])
@@ -92,7 +96,8 @@ def residue_rows(res):
                    "nucleus": str(comp.nucleus[j]), "measured": _num(comp.measured[j]),
                    "offset": _num(corr[j]), "predicted": _num(comp.predicted[e, j]),
                    "residual": _num(res.residual[e, j]), "z": _num(res.z[e, j], 3),
-                   "flag": (klass[j] or "some") if flagged else ""}
+                   "flag": (klass[j] or "some") if flagged else "",
+                   "model_res": model_res.get((entry.ensemble, int(comp.seq_id[j])), "")}
 
 
 def _csv(rows, columns) -> str:
