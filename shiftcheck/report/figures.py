@@ -17,7 +17,7 @@ from . import style as st
 from ._layout import model_order, panel_grid, place_labels, residue_label
 from .load import ReportData
 # the sequence page lives in its own module; re-exported here (shared helpers come from there)
-from .sequence_page import MAX_MODELS, Z_MAX, _caption, _new, sequence_figure
+from .sequence_page import MAX_MODELS, Z_MAX, _caption, _new, sequence_figure  # noqa: F401
 
 __all__ = ["ranking_figure", "correlation_figure", "sequence_figure", "referencing_figure",
            "MAX_MODELS", "MAX_LABELS", "nuclei_with_data"]
