@@ -36,8 +36,13 @@ def _new(size) -> Figure:
 
 
 def _caption(fig, text, y=0.015):
+    """Grey caption at the foot of the page, wrapped to the page width (about 17 characters
+    per inch at the small font size)."""
+    import textwrap
+
+    text = textwrap.fill(text, width=int(fig.get_figwidth() * 17))
     fig.text(0.04, y, text, fontsize=st.SMALL, color=st.NEUTRAL, va="top" if y > 0.05 else "bottom",
-             ha="left", wrap=True)
+             ha="left")
 
 
 def sequence_figure(data: ReportData, max_models: int = MAX_MODELS) -> Figure:
@@ -93,10 +98,9 @@ def sequence_figure(data: ReportData, max_models: int = MAX_MODELS) -> Figure:
         hx.set_title(f"All models, best first{more}: where each disagrees with the data "
                      "(hatched: no data)", loc="left", fontsize=9)
         fig.suptitle("Agreement along the sequence", x=0.04, ha="left", fontsize=st.TITLE, y=0.96)
-        _caption(fig, "z = residual / expected error of the atom's nucleus class. Secondary shift: "
-                      "measured - offset - random coil (residue-type base values of the shipped "
-                      "table, no neighbour or temperature corrections); Gly: CA alone; no bar "
-                      "without CA or CB data. Secondary structure "
+        _caption(fig, "z = residual / expected error of the nucleus class. Secondary shift = measured "
+                      "- offset - random coil (base values of the shipped table; Gly: CA only). "
+                      "Secondary structure "
                       + (f"of {best}: {method}." if method else "not available in summary.json."))
     return fig
 
