@@ -206,7 +206,9 @@ FALLBACK_SIGMA = {"H": 0.45, "HA": 0.25, "CA": 0.95, "CB": 1.05, "C": 1.0, "N": 
 OFFSET_13C = 1.8
 TEMPERATURE_K = 298.0
 PH = 6.5
-MISASSIGNED = (8, 63)       # Val 8 (strand beta1) and Val 63 (helix alpha2): spin systems exchanged
+MISASSIGNED = (4, 31)       # Ile 4 (strand beta1) and Ile 31 (helix alpha1): spin systems exchanged;
+                            # both elements are kept by every candidate model, so the exchange
+                            # contradicts all of them
 CACB_SWAP = 43              # Thr 43: CA and CB values exchanged
 MISSING = (50, 55)          # residues 50-55 carry no assignments
 RING_PAIRS = {"PHE": [("HD1", "HD2"), ("HE1", "HE2")], "TYR": [("HD1", "HD2"), ("HE1", "HE2")]}
@@ -274,15 +276,16 @@ def measured_shifts(rows: list[tuple], sigma: dict, rng: np.random.Generator) ->
         for k in members:
             meas[k] = m
     planted: dict = {}
-    # misassignment: the two Val spin systems are exchanged
+    # misassignment: the spin systems of two residues of the same type are exchanged
     a, b = MISASSIGNED
-    assert comp[a] == comp[b] == "VAL"
+    assert comp[a] == comp[b]
     atoms_a = {k[1] for k in keys if k[0] == a}
     atoms_b = {k[1] for k in keys if k[0] == b}
     for at in sorted(atoms_a & atoms_b):
         meas[(a, at)], meas[(b, at)] = meas[(b, at)], meas[(a, at)]
-    planted["misassigned"] = {"residues": [a, b], "comp_id": "VAL",
-                              "description": f"spin systems of Val {a} and Val {b} exchanged"}
+    name = comp[a].capitalize()
+    planted["misassigned"] = {"residues": [a, b], "comp_id": comp[a],
+                              "description": f"spin systems of {name} {a} and {name} {b} exchanged"}
     # CA/CB swap
     s = CACB_SWAP
     meas[(s, "CA")], meas[(s, "CB")] = meas[(s, "CB")], meas[(s, "CA")]
