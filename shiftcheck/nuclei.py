@@ -24,7 +24,9 @@ METHYL_PROTONS: dict[str, tuple[str, ...]] = {
 AROMATIC_PROTONS: dict[str, tuple[str, ...]] = {
     "PHE": ("HD1", "HD2", "HE1", "HE2", "HZ"),
     "TYR": ("HD1", "HD2", "HE1", "HE2"),
-    "TRP": ("HD1", "HE1", "HE3", "HZ2", "HZ3", "HH2"),
+    # Trp HE1 is the indole N-H (about 10 ppm, exchangeable, hydrogen-bonding), not a ring C-H:
+    # it is left out of the class rather than mixed with the 6-8 ppm ring protons
+    "TRP": ("HD1", "HE3", "HZ2", "HZ3", "HH2"),
     "HIS": ("HD2", "HE1"),
 }
 
