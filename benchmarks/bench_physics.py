@@ -9,10 +9,8 @@ Targets are every proton plus N, CA, CB, C of the chain, in all models of the fi
 """
 from __future__ import annotations
 
-
-from _timing import best_of, realdata_root
-
 import numpy as np
+from _timing import best_of, realdata_root
 
 FILES = [("ubiquitin", "1D3Z.pdb"), ("hr3102a", "2KRK.pdb"), ("ci2", "3CI2.pdb")]
 

@@ -10,10 +10,11 @@ from __future__ import annotations
 
 import argparse
 import importlib.util
-import os
 import sys
 import time
 from pathlib import Path
+
+from _timing import realdata_root
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -29,10 +30,7 @@ def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__)
     ap.add_argument("--decoys", type=int, default=500)
     a = ap.parse_args(argv)
-    data = Path(os.environ.get("SHIFTCHECK_REALDATA", ROOT.parent / "shared" / "realdata"))
-    if not (data / "ubiquitin").is_dir():
-        print("set SHIFTCHECK_REALDATA to the folder of public BMRB/PDB files", file=sys.stderr)
-        return 2
+    data = realdata_root()
     from shiftcheck.io.coords import read_models
     from shiftcheck.io.shifts import read_shifts
     from shiftcheck.predict.model import Predictor
