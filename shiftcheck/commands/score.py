@@ -56,7 +56,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                    help="do not score the ensemble-mean prediction (name#mean)")
     p.add_argument("--force", action="store_true", help="write into a non-empty OUTDIR")
     p.add_argument("--quiet", action="store_true", help="no console summary, no progress bar")
-    p.add_argument("--no-report", action="store_true", help="skip the PDF/PNG report")
+    p.add_argument("--no-report", action="store_true", help="skip the report (PDF/PNG and report.html)")
     p.add_argument("--plots", metavar="FORMATS", default="png",
                    help="comma-separated figure formats written to OUTDIR/plots: png, svg (default: png)")
     p.add_argument("--show", metavar="MODEL", action="append", default=[],
@@ -181,6 +181,8 @@ def run(args) -> int:
             else:
                 formats = tuple(f.strip().lower() for f in args.plots.split(",") if f.strip())
                 write_report(tmp, formats=formats, show=tuple(args.show))
+                from ..report.html import write_html
+                write_html(tmp, show=tuple(args.show))
     if not args.quiet:
         print(console_summary(res, outdir=args.outdir))
     return 0

@@ -181,7 +181,18 @@ def _meta(data: ReportData) -> dict:
             "reref_mode": s.get("reref_mode"), "parameters": s.get("parameters") or {},
             "expected_error": s.get("expected_error") or {},
             "warnings": list(s.get("warnings") or []), "notes": list(data.notes),
-            "caution": CAUTION, "guide": [g.strip() for g in _GUIDE]}
+            "caution": CAUTION, "guide": _guide()}
+
+
+def _guide() -> list[str]:
+    """The PDF's reading guide, its wrapped continuation lines (indented) joined to their item."""
+    items: list[str] = []
+    for line in _GUIDE:
+        if line.startswith(" ") and items:
+            items[-1] += " " + line.strip()
+        else:
+            items.append(line.strip())
+    return items
 
 
 def _base(p) -> str:

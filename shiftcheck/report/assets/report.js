@@ -194,7 +194,7 @@
     if (!ok(rmsd)) rmsd = Math.sqrt(rows.reduce((t, i) => t + R.residual[i] * R.residual[i], 0) / rows.length);
     s += `<text x="${m.l}" y="16" font-size="13" font-weight="bold">${esc(x)} (${iso(x)})</text>` +
          `<rect x="${m.l - 14}" y="6" width="10" height="10" fill="${c}"/>` +
-         `<text x="${m.l + 6}" y="${m.t + 12}" font-size="10">RMSD ${fix(rmsd, 2)} ppm  r ${fix(r, 3)}  N ${rows.length}</text>`;
+         `<text x="${m.l}" y="31" font-size="10.5">RMSD ${fix(rmsd, 2)} ppm  r ${fix(r, 3)}  N ${rows.length}</text>`;
     return `<svg class="corr" data-nucleus="${esc(x)}" width="${W}" height="${H}" viewBox="0 0 ${W} ${H}">${s}</svg>`;
   }
   function drawCorr() {
@@ -262,7 +262,7 @@
     const ent = SQ.ss[picked];
     s += `<text x="${L - 8}" y="${y3 + h3 / 2 + 4}" font-size="11" text-anchor="end">SS</text>`;
     if (ent) {
-      s += `<text x="${L}" y="${y3 - 6}" font-size="12">Secondary structure of ${esc(ent.drawn_for)} (${esc(ent.method)}): box helix, arrow strand, line other</text>`;
+      s += `<text x="${L}" y="${y3 - 6}" font-size="12">Secondary structure of ${esc(ent.drawn_for)}: box helix, arrow strand, line other (method in the caption)</text>`;
       s += `<line x1="${L}" x2="${W - Rm}" y1="${y3 + h3 / 2}" y2="${y3 + h3 / 2}" stroke="${S.neutral_light}"/>`;
       let st = 0;
       for (let k = 1; k <= ent.ss.length; k++) {
@@ -302,7 +302,8 @@
     s += `<text x="${W - Rm - 156}" y="${H - 5}" font-size="10" text-anchor="end">RMS |z| 0</text><text x="${W - Rm + 2}" y="${H - 5}" font-size="10">${S.z_max}+</text>`;
     $("seq-view").innerHTML = `<svg id="seq-svg" width="${W}" height="${H + 4}" viewBox="0 0 ${W} ${H + 4}">${s}</svg>`;
     $("seq-caption").textContent = "z = residual / expected error of the nucleus class. Secondary shift = measured - offset - random coil " +
-      "(base values of the shipped table; Gly: CA only), from the measured data, the same for every model. Strip colours: " + S.sequential_name + ".";
+      "(base values of the shipped table; Gly: CA only), from the measured data, the same for every model. Secondary structure " +
+      (SQ.ss[picked] ? `of ${SQ.ss[picked].drawn_for}: ${SQ.ss[picked].method}. ` : "not available in summary.json. ") + "Strip colours: " + S.sequential_name + ".";
   }
   $("seq-view").addEventListener("click", (ev) => {
     const g = ev.target.closest("g.strip-row");
@@ -336,7 +337,7 @@
       const hist = (arr) => { const h = new Array(nb).fill(0); for (const d of arr) h[Math.max(0, Math.min(nb - 1, Math.floor((d - a) / w)))]++; return h; };
       const ha = hist(after), hb = hist(before), top = Math.max(...ha, ...hb, 1);
       const W = 250, H = 170, mg = { l: 40, r: 8, t: 34, b: 34 };
-      const ax = axes(W, H, mg, a, b, 0, top, "measured - predicted (ppm)", "atoms");
+      const ax = axes(W, H, mg, a, b, 0, top * 1.1, "measured - predicted (ppm)", "atoms");
       let s = ax.svg;
       ha.forEach((c, k) => { if (c) s += `<rect x="${ax.sx(a + k * w)}" y="${ax.sy(c)}" width="${ax.sx(a + w) - ax.sx(a)}" height="${ax.sy(0) - ax.sy(c)}" fill="${colour(x)}" fill-opacity="0.75"${tipAttr([`${x} after the offset`, `${fix(a + k * w, 2)} to ${fix(a + (k + 1) * w, 2)} ppm: ${c} atoms`])}/>`; });
       let p = `M${ax.sx(a)} ${ax.sy(0)}`;
