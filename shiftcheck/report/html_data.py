@@ -215,10 +215,10 @@ def page_data(data: ReportData, show=(), max_point_models: int = MAX_POINT_MODEL
     offsets = {k: data.offset(k) for k in ("H", "C", "N") if data.offset(k)}
     summarised = []
     if len(models) < n_with:
-        summarised.append(f"Points, per-residue strip and secondary structure are embedded for "
-                          f"{len(models)} of {n_with} models (the best {min(max_point_models, n_with)}"
-                          f", the best group and models asked for with --show); all {n_with} are "
-                          f"in residues.csv.")
+        summarised.append(f"Points, residual histograms, per-residue strip and secondary "
+                          f"structure are embedded for {len(models)} of {n_with} models (the best "
+                          f"{min(max_point_models, n_with)}, the best group and models asked for "
+                          f"with --show); all {n_with} are in residues.csv.")
     return clean({"meta": _meta(data), "style": _style(), "ranking": _ranking(data),
                   "points_models": models, "residues": _residues(data, models),
                   "sequence": _sequence(data, models), "offsets": offsets,
