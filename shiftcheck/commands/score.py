@@ -36,6 +36,11 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                    help="output directory (created; must be empty unless --force)")
     p.add_argument("--chain", metavar="C", help="author chain ID in the models (default: first protein chain)")
     add_common_options(p)
+    p.add_argument("--temperature", metavar="K", type=float, default=None,
+                   help="sample temperature in kelvin, for the random-coil corrections (default: "
+                        "the shift file's sample conditions; NEF files carry none)")
+    p.add_argument("--ph", metavar="PH", type=float, default=None,
+                   help="sample pH (default: the shift file's sample conditions; NEF files carry none)")
     p.add_argument("--params", metavar="FILE", help="predictor parameter file (default: shipped)")
     p.add_argument("--min-identity", metavar="F", type=float, default=None,
                    help="lowest sequence identity accepted between the shift list and a model "
@@ -163,8 +168,16 @@ def run(args) -> int:
             raise InputError(f"--plots: unknown plot format '{bad[0]}' (choose from {', '.join(PLOT_FORMATS)})")
     if args.min_identity is not None and not 0.0 < args.min_identity <= 1.0:
         raise InputError(f"--min-identity must lie in (0, 1], got {args.min_identity:g}")
+    if args.temperature is not None and not 200.0 <= args.temperature <= 400.0:
+        raise InputError(f"--temperature is in kelvin and must lie in 200..400, got {args.temperature:g}")
+    if args.ph is not None and not 0.0 <= args.ph <= 14.0:
+        raise InputError(f"--ph must lie in 0..14, got {args.ph:g}")
     check_outdir(args.outdir, args.force, inputs)        # fail early, before the work
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
+    if args.temperature is not None:
+        shifts.conditions.temperature_K = args.temperature
+    if args.ph is not None:
+        shifts.conditions.pH = args.ph
     ensembles = read_models(args.models, chain=args.chain)
     res = score(shifts, ensembles, params=args.params, ring_model=args.ring_model, reref=args.reref,
                 k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
