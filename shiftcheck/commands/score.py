@@ -156,6 +156,7 @@ def console_summary(res, outdir: str | None = None, top: int = 10) -> str:
 def run(args) -> int:
     from ..io.coords import read_models
     from ..io.shifts import read_shifts
+    from ..report.corrected_star import write_corrected_star
     from ..report.outdir import check_outdir, staged_outdir
     from ..report.tables import write_tables
     from ..score.scoring import score
@@ -185,6 +186,7 @@ def run(args) -> int:
                 progress=_Progress(args.quiet))
     with staged_outdir(args.outdir, args.force, inputs) as tmp:
         write_tables(res, tmp)
+        write_corrected_star(res, tmp)                   # only when an offset was applied
         if not args.no_report:
             try:
                 from ..report.pdf import write_report
