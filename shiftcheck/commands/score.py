@@ -61,6 +61,14 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                    help="do not score the ensemble-mean prediction (name#mean)")
     p.add_argument("--force", action="store_true", help="write into a non-empty OUTDIR")
     p.add_argument("--quiet", action="store_true", help="no console summary, no progress bar")
+    p.add_argument("--json", action="store_true",
+                   help="print summary.json's ranking and offsets as one JSON object on stdout "
+                        "(instead of the console summary)")
+    p.add_argument("--fail-on", metavar="CONDITIONS", default=None,
+                   help="exit with code 3, after writing the outputs, when any of these "
+                        "comma-separated conditions holds: offset (an offset was applied), "
+                        "flags>N (more than N atoms flagged in every model), score>X (best "
+                        "score above X), skipped (a model file was skipped)")
     p.add_argument("--no-report", action="store_true", help="skip the PDF/PNG report")
     p.add_argument("--plots", metavar="FORMATS", default="png",
                    help="comma-separated figure formats written to OUTDIR/plots: png, svg (default: png)")
@@ -161,7 +169,10 @@ def run(args) -> int:
     from ..report.tables import write_tables
     from ..score.scoring import score
 
+    from ..gates import finish, parse_conditions
+
     inputs = [args.shifts, *args.models] + ([args.params] if args.params else [])
+    gates = parse_conditions(getattr(args, "fail_on", None))   # before any work
     if not args.no_report:                               # fail early on a bad format too
         from ..report.pdf import PLOT_FORMATS
         bad = [f for f in args.plots.split(",") if f.strip() and f.strip().lower() not in PLOT_FORMATS]
@@ -196,6 +207,7 @@ def run(args) -> int:
             else:
                 formats = tuple(f.strip().lower() for f in args.plots.split(",") if f.strip())
                 write_report(tmp, formats=formats, show=tuple(args.show))
-    if not args.quiet:
+    as_json = getattr(args, "json", False)
+    if not args.quiet and not as_json:
         print(console_summary(res, outdir=args.outdir))
-    return 0
+    return finish(args.outdir, gates, as_json=as_json)
