@@ -17,11 +17,11 @@ __all__ = ["add_parser", "run", "describe"]
 def add_parser(subparsers) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "inspect", help="show what was read from a shift list and models, and how they map",
-        description="Read an assigned chemical-shift list (NMR-STAR 3.x / 2.1 or a plain table) and "
+        description="Read an assigned chemical-shift list (NMR-STAR 3.x / 2.1, NEF or a plain table) and "
                     "optional coordinate files (PDB/mmCIF, .gz allowed) and print what was read: "
                     "shift lists, entities, counts per nucleus, sample conditions, models, chains, "
                     "atoms, hydrogens built, the residue mapping and all warnings.")
-    p.add_argument("shifts", metavar="SHIFTS", help="assigned chemical shifts (NMR-STAR or table)")
+    p.add_argument("shifts", metavar="SHIFTS", help="assigned chemical shifts (NMR-STAR, NEF or table)")
     p.add_argument("models", metavar="MODELS", nargs="*", help="coordinate files (PDB or mmCIF)")
     p.add_argument("--chain", metavar="C", help="author chain ID in the models "
                    "(default: the first chain with protein residues)")

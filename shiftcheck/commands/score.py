@@ -30,7 +30,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                     "the models with bootstrap confidence, flag disagreeing residues and run the "
                     "data checks. Writes ranking.csv, residues.csv, summary.json (and the report) "
                     "into OUTDIR.")
-    p.add_argument("shifts", metavar="SHIFTS", help="assigned chemical shifts (NMR-STAR or table)")
+    p.add_argument("shifts", metavar="SHIFTS", help="assigned chemical shifts (NMR-STAR, NEF or table)")
     p.add_argument("models", metavar="MODEL", nargs="+", help="coordinate files (PDB or mmCIF, .gz allowed)")
     p.add_argument("-o", "--outdir", metavar="OUTDIR", required=True,
                    help="output directory (created; must be empty unless --force)")
