@@ -27,7 +27,8 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                    "(default: the first chain with protein residues)")
     p.add_argument("--list-id", metavar="ID", help="assigned shift list ID or saveframe name "
                    "(default: the only list, or the largest protein list)")
-    p.add_argument("--entity", metavar="ID", help="entity or entity-assembly ID of the shifts")
+    p.add_argument("--entity", metavar="ID", help="entity or entity-assembly ID of the shifts "
+                   "(NEF: chain code)")
     p.add_argument("--min-identity", metavar="F", type=float, default=None,
                    help="refuse a mapping below this sequence identity (default 0.9)")
     p.add_argument("--alignment", action="store_true", help="print the full sequence alignments")

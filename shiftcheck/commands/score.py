@@ -18,9 +18,11 @@ __all__ = ["add_parser", "run", "console_summary", "add_common_options"]
 
 def add_common_options(p: argparse.ArgumentParser) -> None:
     """Shift-list selection options shared with ``check``."""
-    p.add_argument("--list-id", metavar="ID", help="assigned shift list ID or saveframe name "
+    p.add_argument("--list-id", metavar="ID", help="assigned shift list ID or saveframe name (NEF: "
+                   "save frame name of the nef_chemical_shift_list) "
                    "(default: the only list, or the largest protein list)")
-    p.add_argument("--entity", metavar="ID", help="entity or entity-assembly ID of the shifts")
+    p.add_argument("--entity", metavar="ID", help="entity or entity-assembly ID of the shifts "
+                   "(NEF: chain code)")
 
 
 def add_parser(subparsers) -> argparse.ArgumentParser:
