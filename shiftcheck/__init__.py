@@ -26,7 +26,7 @@ _LAZY = {
     "map_sequence": ("shiftcheck.structure.mapping", "map_sequence"),
     "Predictor": ("shiftcheck.predict.model", "Predictor"),
     "predict_shifts": ("shiftcheck.predict.model", "predict"),
-    "score_models": ("shiftcheck.score.scoring", "score"),
+    "score_models": ("shiftcheck.pipeline", "score_models"),
     "write_tables": ("shiftcheck.report.tables", "write_tables"),
     "write_report": ("shiftcheck.report.pdf", "write_report"),
 }

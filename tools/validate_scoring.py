@@ -104,7 +104,7 @@ def injected_error_run(root: Path, folder: str, shifts_file: str, model_files: l
     """Score the real list and the list with injected errors against the folder's models."""
     from shiftcheck.io.coords import read_models
     from shiftcheck.io.shifts import read_shifts
-    from shiftcheck.score.scoring import score
+    from shiftcheck.pipeline import score_models as score
 
     shifts = read_shifts(root / folder / shifts_file)
     ens = read_models([root / folder / m for m in model_files])
@@ -135,7 +135,7 @@ def decoy_run(root: Path, folder: str, shifts_file: str, native_file: str, n: in
     """Native + decoys of one protein: native rank and Spearman rho(score, CA-RMSD)."""
     from make_decoys import make_decoys
 
-    from shiftcheck.score.scoring import score
+    from shiftcheck.pipeline import score_models as score
 
     shifts, nat = _load(root, folder, shifts_file, native_file)
     nat = nat.select_models([0])
@@ -162,7 +162,7 @@ def xray_nmr_run(root: Path, folder: str, shifts_file: str, xray: str, nmr: str,
     """Score the X-ray structure (hydrogens built) beside the NMR ensemble (hydrogens read)."""
     from shiftcheck.io.coords import read_models
     from shiftcheck.io.shifts import read_shifts
-    from shiftcheck.score.scoring import score
+    from shiftcheck.pipeline import score_models as score
 
     shifts = read_shifts(root / folder / shifts_file)
     ens = read_models([root / folder / xray, root / folder / nmr])

@@ -9,11 +9,9 @@ from __future__ import annotations
 import argparse
 import sys
 
-import numpy as np
-
 from ..errors import InputError
 
-__all__ = ["add_parser", "run", "console_summary", "add_common_options"]
+__all__ = ["add_parser", "run", "add_common_options"]
 
 
 def add_common_options(p: argparse.ArgumentParser) -> None:
@@ -81,79 +79,10 @@ class _Progress:
         sys.stderr.flush()
 
 
-def console_summary(res, outdir: str | None = None, top: int = 10) -> str:
-    """Readable text summary of a ScoreResult."""
-    from ..nuclei import BACKBONE
-
-    comp, rk = res.comparison, res.ranking
-    lines = [f"Shifts: {res.shifts.source} ({len(comp)} atoms on {comp.n_residues} residues compared)"]
-    for ens, m in zip(res.ensembles, res.mappings):
-        lines.append(f"  {ens.name}: chain {ens.chain_id}, {ens.n_models} model(s), identity "
-                     f"{m.identity:.2f}, coverage {m.coverage:.2f}")
-    lines.append("")
-    lines.append(f"Referencing offsets (measured - predicted, ppm; --reref {res.parameters['reref']}):")
-    for iso, name in (("C", "13C"), ("N", "15N"), ("H", "1H")):
-        o = res.offsets[iso]
-        if not o.n:
-            lines.append(f"  {name:4s} no atoms")
-            continue
-        extra = ""
-        if o.per_atom:
-            extra = "  [" + ", ".join(f"{k} {v['value']:+.2f}" for k, v in o.per_atom.items()
-                                      if v["value"] is not None) + "]"
-        lines.append(f"  {name:4s} {o.value:+.2f} (95% {o.low:+.2f} to {o.high:+.2f}, n={o.n}) "
-                     f"{'APPLIED' if o.applied else 'not applied'}{extra}")
-    lines.append("")
-    lines.append("Ranking (score: robust RMS of residual/expected error; lower is better):")
-    head = f"  {'rank':>4} {'model':<24} {'score':>6} {'95% interval':>15} {'p_best':>6}  " + \
-        " ".join(f"{x:>5}" for x in BACKBONE)
-    lines.append(head)
-    for n, i in enumerate(rk.order):
-        if n >= 30:
-            lines.append(f"  ... {len(rk.order) - 30} more in ranking.csv")
-            break
-        rms = " ".join(f"{res.metrics[x]['rmsd'][i]:5.2f}" if res.metrics[x]["n"] else "    -"
-                       for x in BACKBONE)
-        mark = "*" if rk.best_group[i] else " "
-        lines.append(f"  {rk.rank[i]:>4}{mark}{comp.entries[i].name[:24]:<24} {rk.score[i]:6.2f} "
-                     f"{rk.low[i]:6.2f} - {rk.high[i]:6.2f} {rk.p_best[i]:6.2f}  {rms}")
-    lines.append("  * = cannot be told apart from the best (beats it in >= 5 % of bootstrap replicates)")
-    lines.append("")
-    every = [(j, k) for j, k in enumerate(res.outliers.klass) if k == "every"]
-    best = int(rk.order[0])
-    fl = np.flatnonzero(res.outliers.flagged[best])
-    lines.append(f"Flags (|residual| > {res.outliers.k:g} x expected error): "
-                 f"{len(every)} atoms in every model, "
-                 f"{int(np.sum(res.outliers.klass == 'some'))} in some models; "
-                 f"{len(fl)} in the best model, largest |z| first"
-                 + (" (measured minus the applied offset)" if any(o.applied for o in res.offsets.values()) else ""))
-    order = sorted(fl, key=lambda j: -abs(res.z[best, j]))[:top]
-    for j in order:
-        meas = comp.predicted[best, j] + res.residual[best, j]   # measured - applied offset
-        lines.append(f"  {comp.seq_id[j]:>5} {comp.comp_id[j]} {comp.atom_id[j]:<5} "
-                     f"measured {meas:8.3f} predicted {comp.predicted[best, j]:8.3f} "
-                     f"z {res.z[best, j]:+6.1f}  ({res.outliers.klass[j]})")
-    warn = [f for f in res.findings if f.severity == "warning"]
-    lines.append("")
-    lines.append(f"Data checks: {len(warn)} warnings, {len(res.findings) - len(warn)} notes")
-    for f in warn[:top]:
-        lines.append(f"  {f.seq_id:>5} {f.comp_id} {f.atom_id}: [{f.rule}] {f.message}")
-    if res.warnings:
-        lines.append(f"Warnings: {len(res.warnings)} (see summary.json)")
-    left = sum(comp.left_out.values())
-    if left:
-        lines.append(f"Left out of the comparison: {left} shifts (see summary.json left_out)")
-    if outdir:
-        lines.append(f"Output: {outdir}")
-    return "\n".join(lines)
-
-
 def run(args) -> int:
-    from ..io.coords import read_models
-    from ..io.shifts import read_shifts
-    from ..report.outdir import check_outdir, staged_outdir
-    from ..report.tables import write_tables
-    from ..score.scoring import score
+    from ..pipeline import score_files
+    from ..report.console import console_summary
+    from ..report.outdir import check_outdir
 
     inputs = [args.shifts, *args.models] + ([args.params] if args.params else [])
     if not args.no_report:                               # fail early on a bad format too
@@ -164,23 +93,32 @@ def run(args) -> int:
     if args.min_identity is not None and not 0.0 < args.min_identity <= 1.0:
         raise InputError(f"--min-identity must lie in (0, 1], got {args.min_identity:g}")
     check_outdir(args.outdir, args.force, inputs)        # fail early, before the work
-    shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
-    ensembles = read_models(args.models, chain=args.chain)
-    res = score(shifts, ensembles, params=args.params, ring_model=args.ring_model, reref=args.reref,
-                k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
-                include_mean=not args.no_mean, min_identity=args.min_identity,
-                progress=_Progress(args.quiet))
-    with staged_outdir(args.outdir, args.force, inputs) as tmp:
+    res = score_files(args.shifts, args.models, list_id=args.list_id, entity_id=args.entity,
+                      chain=args.chain, params=args.params, ring_model=args.ring_model, reref=args.reref,
+                      k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
+                      include_mean=not args.no_mean, min_identity=args.min_identity,
+                      progress=_Progress(args.quiet))
+    write_outputs(res, args.outdir, force=args.force, inputs=inputs, report=not args.no_report,
+                  plots=args.plots, show=tuple(args.show))
+    if not args.quiet:
+        print(console_summary(res, outdir=args.outdir))
+    return 0
+
+
+def write_outputs(res, outdir: str, *, force: bool, inputs: list, report: bool = True,
+                  plots: str = "png", show: tuple = ()) -> None:
+    """Write the tables (and the report) of ``res`` into ``outdir`` through a staged directory."""
+    from ..report.outdir import staged_outdir
+    from ..report.tables import write_tables
+
+    with staged_outdir(outdir, force, inputs) as tmp:
         write_tables(res, tmp)
-        if not args.no_report:
+        if report:
             try:
                 from ..report.pdf import write_report
             except ModuleNotFoundError as exc:
                 if exc.name != "shiftcheck.report.pdf":
                     raise
             else:
-                formats = tuple(f.strip().lower() for f in args.plots.split(",") if f.strip())
-                write_report(tmp, formats=formats, show=tuple(args.show))
-    if not args.quiet:
-        print(console_summary(res, outdir=args.outdir))
-    return 0
+                formats = tuple(f.strip().lower() for f in plots.split(",") if f.strip())
+                write_report(tmp, formats=formats, show=show)
