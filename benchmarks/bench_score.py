@@ -32,7 +32,7 @@ def main(argv=None) -> int:
     a = ap.parse_args(argv)
     data = realdata_root()
     from shiftcheck.io.coords import read_models
-    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.io.shift_formats import read_shifts
     from shiftcheck.predict.model import Predictor
     from shiftcheck.pipeline import score_models
     from shiftcheck.score.scoring import score

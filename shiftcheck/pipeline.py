@@ -21,7 +21,7 @@ from .errors import InputError
 from .predict.model import Predictor
 from .predict.prediction import Prediction
 from .score.scoring import ScoreResult, score
-from .shifts import ShiftList
+from .shiftlist import ShiftList
 from .structure.ensemble import Ensemble
 from .structure.mapping import DEFAULT_MIN_IDENTITY, Mapping, map_sequence
 
@@ -130,7 +130,7 @@ def score_files(shift_path, model_paths, *, list_id=None, entity_id=None, chain:
                 **options) -> ScoreResult:
     """Read a shift file and coordinate files, then :func:`score_models` (same keyword options)."""
     from .io.coords import read_models
-    from .io.shifts import read_shifts
+    from .io.shift_formats import read_shifts
 
     shifts = read_shifts(shift_path, list_id=list_id, entity_id=entity_id)
     ensembles = read_models(model_paths, chain=chain)

@@ -129,7 +129,7 @@ def test_shift_file_is_valid_nmrstar_31():
     entry = pynmrstar.Entry.from_file(str(DEMO_DATA / planted["shift_file"]))
     assert entry.validate() == []
     assert entry.get_tag("_Sample_condition_variable.Val") == ["298", "6.5"]
-    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.io.shift_formats import read_shifts
 
     sl = read_shifts(DEMO_DATA / planted["shift_file"])
     assert len(sl) == planted["n_shifts"]

@@ -106,7 +106,7 @@ def describe(shifts, ensembles, min_identity=None, alignment=False) -> tuple[str
 
 def run(args) -> int:
     from ..io.coords import read_models
-    from ..io.shifts import read_shifts
+    from ..io.shift_formats import read_shifts
 
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
     ensembles = read_models(args.models, chain=args.chain) if args.models else []

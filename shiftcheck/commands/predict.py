@@ -64,7 +64,7 @@ def _write_atomic(path: str, text: str) -> None:
 def run(args) -> int:
     from ..io.coords import read_models
     from ..predict.model import Predictor
-    from ..shifts import SampleConditions
+    from ..shiftlist import SampleConditions
 
     predictor = Predictor(args.params, args.ring_model)
     cond = SampleConditions(temperature_K=args.temperature, pH=args.ph)

@@ -20,7 +20,7 @@ from typing import Iterable, Sequence
 import numpy as np
 
 from ..errors import InputError, ShiftcheckError
-from ..shifts import ONE_TO_THREE
+from ..shiftlist import ONE_TO_THREE
 from ..structure.ensemble import Ensemble
 from ..structure.names import normalise_comp_id, normalise_residue_atom_names
 from ._coord_notes import note_dropped, note_missing

@@ -116,7 +116,7 @@ def build_dataset(shifts, ens, seq_to_res: dict, label: str, group: str, weight:
 def load_datasets(pairs: list[Pair]) -> list[Dataset]:
     """Read, map and featurise every pair with the project's readers."""
     from ..io.coords import read_models
-    from ..io.shifts import read_shifts
+    from ..io.shift_formats import read_shifts
     from ..structure.mapping import map_sequence
 
     table = load_table()

@@ -1,10 +1,10 @@
 """Score predicted shifts against measured shifts (the orchestration is :mod:`shiftcheck.pipeline`).
 
 Steps, given the mappings and predictions of every ensemble: common atom set
-(:mod:`.common`) -> stereo pairs resolved -> referencing offsets (:mod:`.referencing`) ->
+(:mod:`.comparison`) -> stereo pairs resolved -> referencing offsets (:mod:`.referencing`) ->
 residuals, normalised residuals z = r / sigma, robust loss -> per-nucleus metrics
 (:mod:`.metrics`) -> paired-bootstrap ranking (:mod:`.ranking`) -> outlier atoms
-(:mod:`.outliers`) -> data checks (:mod:`.sanity`) and secondary structure (:mod:`.secondary`).
+(:mod:`.outliers`) -> data checks (:mod:`.datacheck`) and secondary structure (:mod:`.secondary`).
 """
 from __future__ import annotations
 
@@ -16,16 +16,16 @@ import numpy as np
 from ..errors import InputError
 from ..nuclei import ALL_CLASSES
 from ._constants import scoring_constants
-from .common import Comparison, build_comparison, resolve_stereo
+from .comparison import Comparison, build_comparison, resolve_stereo
 from .metrics import combined_score, huber_q, per_nucleus_metrics
 from .outliers import Outliers, find_outliers, residue_summary
 from .ranking import Ranking, per_residue_sums, rank_models
 from .referencing import Offset, estimate_offsets, residue_weights
-from .sanity import Finding, check_against_models, check_shifts
+from .datacheck import Finding, check_against_models, check_shifts
 
 if TYPE_CHECKING:
     from ..predict.prediction import Prediction
-    from ..shifts import ShiftList
+    from ..shiftlist import ShiftList
     from ..structure.ensemble import Ensemble
     from ..structure.mapping import Mapping
 

@@ -23,7 +23,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..errors import MappingError
-from ..shifts import ONE_TO_THREE, THREE_TO_ONE, ShiftList
+from ..shiftlist import ONE_TO_THREE, THREE_TO_ONE, ShiftList
 from .ensemble import Ensemble
 
 __all__ = ["Mapping", "map_sequence", "DEFAULT_MIN_IDENTITY"]
