@@ -29,7 +29,7 @@ sys.path.insert(0, str(HERE))
 from demo_fold import Design, fold, kabsch_rmsd, refine  # noqa: E402
 from demo_write import atomic_write, pack_sidechains, write_mmcif, write_pdb, write_star  # noqa: E402
 
-from shiftcheck.shiftlist import ONE_TO_THREE  # noqa: E402
+from shiftcheck.chem.residues import ONE_TO_THREE  # noqa: E402
 from shiftcheck.structure.builder import build_backbone, build_protein  # noqa: E402
 
 SEED = 20240611

@@ -17,13 +17,14 @@ from __future__ import annotations
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 
+from .defaults import DEFAULT_MIN_IDENTITY
 from .errors import InputError
 from .predict.model import Predictor
 from .predict.prediction import Prediction
 from .score.scoring import ScoreResult, score
 from .shiftlist import ShiftList
 from .structure.ensemble import Ensemble
-from .structure.mapping import DEFAULT_MIN_IDENTITY, Mapping, map_sequence
+from .structure.mapping import Mapping, map_sequence
 
 __all__ = ["Batch", "BatchResult", "model_batches", "predict_batch", "reduce_batches", "predict_all",
            "score_models", "score_files", "describe_params"]
@@ -141,10 +142,11 @@ def describe_params(path) -> str:
     """'shipped default (params_default.json)' for the packaged file, else the path given."""
     if path is None:
         return "<dict>"
-    from importlib import resources
     from pathlib import Path
 
-    shipped = resources.files("shiftcheck.data").joinpath("params_default.json")
+    from .predict.params import default_params_path
+
+    shipped = default_params_path()
     try:
         if Path(str(path)).resolve() == Path(str(shipped)).resolve():
             return "shipped default (shiftcheck/data/params_default.json)"

@@ -13,7 +13,8 @@ import numpy as np
 import pytest
 
 from shiftcheck.errors import MappingError
-from shiftcheck.shiftlist import ONE_TO_THREE, ShiftList
+from shiftcheck.chem.residues import ONE_TO_THREE
+from shiftcheck.shiftlist import ShiftList
 from shiftcheck.structure.ensemble import Ensemble
 from shiftcheck.structure.mapping import map_sequence
 

@@ -1,7 +1,7 @@
 """Chain ends: which residues count as charged termini (common practice, no source: the free
 amine and carboxylate shift nearby nuclei by ppm, and peptide random-coil tables exclude them).
 Checked on public entries whose construct boundaries are known from the files themselves."""
-from shiftcheck.nuclei import at_chain_terminus, entity_ends
+from shiftcheck.chem.nuclei import at_chain_terminus, entity_ends
 
 
 def test_ubiquitin_ends_are_termini(realdata):

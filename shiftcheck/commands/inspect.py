@@ -35,7 +35,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
 
 
 def _shift_block(shifts) -> list[str]:
-    from ..nuclei import nucleus_class
+    from ..chem.nuclei import nucleus_class
 
     out = [f"Shifts: {shifts.source}"]
     name = f" ({shifts.list_name})" if shifts.list_name else ""

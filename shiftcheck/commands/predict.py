@@ -8,9 +8,10 @@ import os
 import sys
 import tempfile
 
+from ..defaults import RING_MODELS
+
 __all__ = ["add_parser", "run", "prediction_rows"]
 
-_RING_CHOICES = ("haigh-mallion", "johnson-bovey", "point-dipole")
 
 
 def add_parser(subparsers) -> argparse.ArgumentParser:
@@ -22,7 +23,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("-o", "--output", metavar="FILE.csv", help="write a CSV table (default: print a table)")
     p.add_argument("--chain", metavar="C", help="chain ID (default: the first protein chain)")
     p.add_argument("--params", metavar="FILE", help="parameter file (default: the shipped one)")
-    p.add_argument("--ring-model", choices=_RING_CHOICES, help="ring-current model (default: the parameter file's)")
+    p.add_argument("--ring-model", choices=RING_MODELS, help="ring-current model (default: the parameter file's)")
     p.add_argument("--temperature", type=float, metavar="K", help="sample temperature in K (random-coil correction)")
     p.add_argument("--ph", type=float, metavar="PH", help="sample pH (His ring-proton correction)")
     return p

@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import sys
 
+from ..defaults import DEFAULT_MIN_IDENTITY, RING_MODELS, scoring_default
 from ..errors import InputError
 
 __all__ = ["add_parser", "run", "add_common_options"]
@@ -37,19 +38,20 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--params", metavar="FILE", help="predictor parameter file (default: shipped)")
     p.add_argument("--min-identity", metavar="F", type=float, default=None,
                    help="lowest sequence identity accepted between the shift list and a model "
-                        "(default 0.9; lower it for mutants, knowing the mutated residues are compared too)")
+                        f"(default {DEFAULT_MIN_IDENTITY:g}; lower it for mutants, knowing the mutated residues are compared too)")
     p.add_argument("--ring-model", metavar="NAME",
-                   choices=["haigh-mallion", "johnson-bovey", "point-dipole"],
+                   choices=list(RING_MODELS),
                    help="ring-current model (default: the parameter file's)")
     p.add_argument("--reref", choices=["auto", "off", "force"], default="auto",
                    help="referencing correction: auto (when significant and above threshold), "
                         "off, force (default: auto)")
-    p.add_argument("--k-sigma", metavar="K", type=float, default=3.0,
-                   help="flag atoms with |residual| > K x expected error (default: 3)")
-    p.add_argument("--bootstrap", metavar="N", type=int, default=1000,
-                   help="bootstrap replicates (default: 1000)")
+    k_sigma, n_boot = scoring_default("k_sigma"), scoring_default("n_boot")
+    p.add_argument("--k-sigma", metavar="K", type=float, default=k_sigma,
+                   help=f"flag atoms with |residual| > K x expected error (default: {k_sigma:g})")
+    p.add_argument("--bootstrap", metavar="N", type=int, default=n_boot,
+                   help=f"bootstrap replicates (default: {n_boot})")
     p.add_argument("--seed", metavar="S", type=int, default=None,
-                   help="random seed of the bootstrap (default: 20240611)")
+                   help=f"random seed of the bootstrap (default: {scoring_default('seed')})")
     p.add_argument("--no-mean", action="store_true",
                    help="do not score the ensemble-mean prediction (name#mean)")
     p.add_argument("--force", action="store_true", help="write into a non-empty OUTDIR")

@@ -19,33 +19,17 @@ from typing import Iterable, Sequence
 
 import numpy as np
 
+from ..chem.names import normalise_comp_id, normalise_residue_atom_names
+from ..chem.residues import AA20, HEAVY_ATOMS
 from ..errors import InputError, ShiftcheckError
-from ..shiftlist import ONE_TO_THREE
 from ..structure.ensemble import Ensemble
-from ..structure.names import normalise_comp_id, normalise_residue_atom_names
 from ._coord_notes import note_dropped, note_missing
 from .textfile import read_text_file
 
-__all__ = ["read_models", "read_model_file", "stack_compatible", "HEAVY_ATOMS"]
+__all__ = ["read_models", "read_model_file", "stack_compatible"]
 
-_AA20 = frozenset(ONE_TO_THREE.values())
+_AA20 = frozenset(AA20)
 _WATERS = frozenset({"HOH", "WAT", "DOD", "H2O", "TIP", "TIP3", "SOL"})
-
-#: Heavy atoms of each standard residue (IUPAC names), for the missing-atom report.
-HEAVY_ATOMS: dict[str, tuple[str, ...]] = {
-    "GLY": (), "ALA": ("CB",), "SER": ("CB", "OG"), "CYS": ("CB", "SG"),
-    "VAL": ("CB", "CG1", "CG2"), "THR": ("CB", "OG1", "CG2"), "PRO": ("CB", "CG", "CD"),
-    "LEU": ("CB", "CG", "CD1", "CD2"), "ILE": ("CB", "CG1", "CG2", "CD1"),
-    "MET": ("CB", "CG", "SD", "CE"), "ASP": ("CB", "CG", "OD1", "OD2"),
-    "ASN": ("CB", "CG", "OD1", "ND2"), "GLU": ("CB", "CG", "CD", "OE1", "OE2"),
-    "GLN": ("CB", "CG", "CD", "OE1", "NE2"), "LYS": ("CB", "CG", "CD", "CE", "NZ"),
-    "ARG": ("CB", "CG", "CD", "NE", "CZ", "NH1", "NH2"),
-    "HIS": ("CB", "CG", "ND1", "CD2", "CE1", "NE2"),
-    "PHE": ("CB", "CG", "CD1", "CD2", "CE1", "CE2", "CZ"),
-    "TYR": ("CB", "CG", "CD1", "CD2", "CE1", "CE2", "CZ", "OH"),
-    "TRP": ("CB", "CG", "CD1", "CD2", "NE1", "CE2", "CE3", "CZ2", "CZ3", "CH2"),
-}
-_BACKBONE = ("N", "CA", "C", "O")
 
 
 def read_models(paths: str | os.PathLike | Sequence[str | os.PathLike], chain: str | None = None,

@@ -14,9 +14,10 @@ from collections import defaultdict
 
 import numpy as np
 
+from ..chem.names import expand_residue_atom_names, normalise_comp_id
+from ..chem.residues import ONE_TO_THREE
 from ..errors import InputError
-from ..shiftlist import ONE_TO_THREE, SampleConditions, ShiftList
-from ..structure.names import expand_residue_atom_names, normalise_comp_id
+from ..shiftlist import SampleConditions, ShiftList
 
 __all__ = ["build_shift_list", "choose", "conditions_from_rows", "VALUE_RANGE_PPM"]
 

@@ -25,8 +25,9 @@ from __future__ import annotations
 
 import re
 
+from ..chem.residues import ONE_TO_THREE
 from ..errors import InputError
-from ..shiftlist import ONE_TO_THREE, SampleConditions
+from ..shiftlist import SampleConditions
 from .shift_rows import build_shift_list
 
 __all__ = ["read_table", "TABLE_COLUMNS"]

@@ -16,8 +16,9 @@ import logging
 import re
 from collections import OrderedDict
 
+from ..chem.residues import THREE_TO_ONE
 from ..errors import InputError, ShiftcheckError
-from ..shiftlist import SampleConditions, THREE_TO_ONE
+from ..shiftlist import SampleConditions
 from .shift_rows import build_shift_list, choose, conditions_from_rows
 from .star_syntax import parse_star_syntax
 

@@ -18,14 +18,14 @@ residue i) are excluded. Used together with ring currents for protons by Ösapay
 """
 from __future__ import annotations
 
-import json
 from functools import lru_cache
-from importlib import resources
 
 import numpy as np
 
 from .ringcurrent import point_dipole
 from .rings import pairs_within
+
+from ..datafiles import load_data, values
 
 __all__ = ["anisotropy_parameters", "peptide_frames", "mcconnell_axis_factor", "anisotropy_features"]
 
@@ -33,9 +33,7 @@ __all__ = ["anisotropy_parameters", "peptide_frames", "mcconnell_axis_factor", "
 @lru_cache(maxsize=1)
 def anisotropy_parameters() -> dict:
     """Constants from ``data/anisotropy.json`` (values only)."""
-    with resources.files("shiftcheck.data").joinpath("anisotropy.json").open(encoding="utf-8") as fh:
-        raw = json.load(fh)
-    return {k: v["value"] for k, v in raw.items() if not k.startswith("_")}
+    return {k: v["value"] for k, v in values(load_data("anisotropy.json")).items()}
 
 
 def mcconnell_axis_factor(points: np.ndarray, origin: np.ndarray, axis: np.ndarray) -> np.ndarray:

@@ -27,18 +27,17 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..nuclei import AROMATIC_PROTONS, METHYL_PROTONS, nucleus_class
+from ..chem.nuclei import AROMATIC_PROTONS, METHYL_PROTONS, nucleus_class
+from ..chem.residues import AA20
 from ..structure.geometry import backbone_torsions, chi1
 from .conformation import conformation_features
 from .randomcoil import _methyl_key, load_table, random_coil
 
-__all__ = ["GROUP_TERM", "AA20", "HBOND_FEATURES", "Targets", "StructureFeatures", "find_targets"]
+__all__ = ["GROUP_TERM", "HBOND_FEATURES", "Targets", "StructureFeatures", "find_targets"]
 
 GROUP_TERM = {"offset": "sequence", "neighbour": "sequence", "conformation": "conformation",
               "ring_current": "ring_current", "hbond": "hbond", "anisotropy": "anisotropy",
               "burial": "burial"}
-AA20 = ("ALA", "ARG", "ASN", "ASP", "CYS", "GLN", "GLU", "GLY", "HIS", "ILE", "LEU", "LYS", "MET",
-        "PHE", "PRO", "SER", "THR", "TRP", "TYR", "VAL")
 #: Hydrogen-bond features used per nucleus class (names from shiftcheck.predict.hbond).
 HBOND_FEATURES = {"H": ("hn_r3", "hn_r3_sc"), "N": ("n_hb",), "HA": ("ha_r3",), "C": ("c_hb",)}
 _BACKBONE_NAMES = ("H", "HA", "HA2", "HA3", "CA", "CB", "C", "N")
@@ -59,7 +58,7 @@ class Targets:
 
 
 def find_targets(ens) -> Targets:
-    """Every atom of a nucleus class (:func:`shiftcheck.nuclei.nucleus_class`) present in ``ens``."""
+    """Every atom of a nucleus class (:func:`shiftcheck.chem.nuclei.nucleus_class`) present in ``ens``."""
     present = ~np.all(np.isnan(ens.coords[..., 0]), axis=0)
     cand = set(_BACKBONE_NAMES)
     for d in (METHYL_PROTONS, AROMATIC_PROTONS):

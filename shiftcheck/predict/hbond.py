@@ -18,13 +18,13 @@ fitted elsewhere; signs: t ≥ 0, a larger t means a shorter/straighter bond (ex
 """
 from __future__ import annotations
 
-import json
 from functools import lru_cache
-from importlib import resources
 
 import numpy as np
 
 from .rings import pairs_within
+
+from ..datafiles import load_data, values
 
 __all__ = ["hbond_parameters", "hbond_contacts", "hbond_features", "FEATURES", "DONOR_PARENT"]
 
@@ -38,9 +38,7 @@ FEATURES = ("hn_r3", "hn_r3_sc", "hn_hbonded", "ha_r3", "n_hb", "c_hb")
 @lru_cache(maxsize=1)
 def hbond_parameters() -> dict:
     """Constants of the hydrogen-bond features from ``data/hbond.json`` (values only)."""
-    with resources.files("shiftcheck.data").joinpath("hbond.json").open(encoding="utf-8") as fh:
-        raw = json.load(fh)
-    return {k: v["value"] for k, v in raw.items() if not k.startswith("_")}
+    return {k: v["value"] for k, v in values(load_data("hbond.json")).items()}
 
 
 def _acceptors(ens, table: dict) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

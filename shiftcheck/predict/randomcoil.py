@@ -16,9 +16,10 @@ from __future__ import annotations
 
 import json
 from functools import lru_cache
-from importlib import resources
 
 import numpy as np
+
+from ..datafiles import load_data
 
 __all__ = ["load_table", "table_value", "random_coil", "temperature_correction", "ph_correction",
            "disulfide_mask", "cis_mask"]
@@ -27,11 +28,9 @@ __all__ = ["load_table", "table_value", "random_coil", "temperature_correction",
 @lru_cache(maxsize=4)
 def _load(path: str | None) -> dict:
     if path is None:
-        text = resources.files("shiftcheck.data").joinpath("random_coil.json").read_text()
-    else:
-        with open(path, encoding="utf-8") as fh:
-            text = fh.read()
-    return json.loads(text)
+        return load_data("random_coil.json")
+    with open(path, encoding="utf-8") as fh:
+        return json.loads(fh.read())
 
 
 def load_table(path: str | None = None) -> dict:

@@ -25,26 +25,25 @@ Models and units of G:
 """
 from __future__ import annotations
 
-import json
 from functools import lru_cache
-from importlib import resources
 
 import numpy as np
 from scipy.special import ellipe, ellipk
 
 from .rings import RING_TYPES, find_rings, pairs_within, ring_frames
 
+from ..datafiles import load_data
+from ..defaults import RING_MODELS
+
 __all__ = ["RING_MODELS", "JB_LOOP_OFFSET", "ring_current_parameters", "point_dipole", "johnson_bovey", "haigh_mallion",
            "johnson_bovey_loop_field", "ring_factor", "ring_current_factors"]
 
-RING_MODELS = ("haigh-mallion", "johnson-bovey", "point-dipole")
 
 
 @lru_cache(maxsize=1)
 def ring_current_parameters() -> dict:
     """Starting intensities, B constants and the loop offset from ``data/ring_current.json``."""
-    with resources.files("shiftcheck.data").joinpath("ring_current.json").open(encoding="utf-8") as fh:
-        return json.load(fh)
+    return load_data("ring_current.json")
 
 
 #: Loop displacement ±d along the normal for Johnson–Bovey, Å (benzene value from

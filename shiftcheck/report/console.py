@@ -5,7 +5,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..nuclei import BACKBONE
+from ..chem.nuclei import BACKBONE
 
 if TYPE_CHECKING:
     from ..score.scoring import ScoreResult

@@ -17,7 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from .. import __version__
-from ..nuclei import ALL_CLASSES, BACKBONE
+from ..chem.nuclei import ALL_CLASSES, BACKBONE
 
 __all__ = ["write_tables", "summary_dict", "ranking_rows", "residue_rows", "RANKING_COLUMNS",
            "RESIDUE_COLUMNS", "sha256"]

@@ -21,7 +21,7 @@ from dataclasses import asdict, dataclass
 
 import numpy as np
 
-from ..nuclei import entity_ends, nucleus_class
+from ..chem.nuclei import entity_ends, nucleus_class
 from ._constants import shift_ranges
 
 __all__ = ["Finding", "check_shifts", "check_against_models"]
@@ -46,8 +46,8 @@ class Finding:
 
 def _srcs() -> dict:
     t = shift_ranges()
-    return {"range": t["ranges"]["_source"], "placeholder": t["placeholders"]["source"],
-            "duplicate": "common practice, no source", "ca_cb_swap": t["random_coil_ca_cb"]["_source"]
+    return {"range": t["ranges"]["source"], "placeholder": t["placeholders"]["source"],
+            "duplicate": "common practice, no source", "ca_cb_swap": t["random_coil_ca_cb"]["source"]
             + "; " + t["ca_cb_swap_margin"]["source"], "cis_pro": t["pro_cb_cg"]["source"],
             "cys_redox": t["cys_cb"]["source"]}
 

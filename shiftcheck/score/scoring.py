@@ -13,15 +13,15 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ..chem.nuclei import ALL_CLASSES
 from ..errors import InputError
-from ..nuclei import ALL_CLASSES
 from ._constants import scoring_constants
 from .comparison import Comparison, build_comparison, resolve_stereo
+from .datacheck import Finding, check_against_models, check_shifts
 from .metrics import combined_score, huber_q, per_nucleus_metrics
 from .outliers import Outliers, find_outliers, residue_summary
 from .ranking import Ranking, per_residue_sums, rank_models
 from .referencing import Offset, estimate_offsets, residue_weights
-from .datacheck import Finding, check_against_models, check_shifts
 
 if TYPE_CHECKING:
     from ..predict.prediction import Prediction
@@ -73,7 +73,7 @@ def expected_errors(params: dict | None) -> tuple[dict[str, float], str]:
     """Expected error per nucleus class from the parameter file, else the documented fallback."""
     fb = scoring_constants()["expected_error_fallback"]
     out = {c: float(fb[c]) for c in ALL_CLASSES}
-    src = "fallback: " + fb["_source"]
+    src = "fallback: " + fb["source"]
     ee = (params or {}).get("expected_error") if isinstance(params, dict) else None
     if isinstance(ee, dict):
         vals = ee.get("values", ee)
