@@ -8,8 +8,14 @@ from __future__ import annotations
 
 import argparse
 from collections import Counter
+from typing import TYPE_CHECKING
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from collections.abc import Sequence
+    from ..shiftlist import ShiftList
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["add_parser", "run", "describe"]
 
@@ -73,7 +79,7 @@ def _model_block(ens) -> list[str]:
     return out
 
 
-def describe(shifts, ensembles, min_identity=None, alignment=False) -> tuple[str, list]:
+def describe(shifts: ShiftList, ensembles: Sequence[Ensemble], min_identity=None, alignment=False) -> tuple[str, list]:
     """Text report of what was read; returns (text, list of MappingError for refused mappings)."""
     from ..errors import MappingError
     from ..structure.mapping import DEFAULT_MIN_IDENTITY, map_sequence

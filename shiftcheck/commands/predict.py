@@ -7,8 +7,12 @@ import io
 import os
 import sys
 import tempfile
+from typing import TYPE_CHECKING
 
 from ..defaults import RING_MODELS
+
+if TYPE_CHECKING:
+    from ..predict.prediction import Prediction
 
 __all__ = ["add_parser", "run", "prediction_rows"]
 
@@ -29,7 +33,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     return p
 
 
-def prediction_rows(pred):
+def prediction_rows(pred: Prediction):
     """Yield (header, rows) for one Prediction: one row per (model, atom)."""
     from ..predict.model import TERMS
 

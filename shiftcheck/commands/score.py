@@ -8,9 +8,13 @@ from __future__ import annotations
 
 import argparse
 import sys
+from typing import TYPE_CHECKING
 
 from ..defaults import DEFAULT_MIN_IDENTITY, RING_MODELS, scoring_default
 from ..errors import InputError
+
+if TYPE_CHECKING:
+    from ..score.scoring import ScoreResult
 
 __all__ = ["add_parser", "run", "add_common_options"]
 
@@ -107,7 +111,7 @@ def run(args) -> int:
     return 0
 
 
-def write_outputs(res, outdir: str, *, force: bool, inputs: list, report: bool = True,
+def write_outputs(res: ScoreResult, outdir: str, *, force: bool, inputs: list, report: bool = True,
                   plots: str = "png", show: tuple = ()) -> None:
     """Write the tables (and the report) of ``res`` into ``outdir`` through a staged directory."""
     from ..report.outdir import staged_outdir
@@ -116,11 +120,7 @@ def write_outputs(res, outdir: str, *, force: bool, inputs: list, report: bool =
     with staged_outdir(outdir, force, inputs) as tmp:
         write_tables(res, tmp)
         if report:
-            try:
-                from ..report.pdf import write_report
-            except ModuleNotFoundError as exc:
-                if exc.name != "shiftcheck.report.pdf":
-                    raise
-            else:
-                formats = tuple(f.strip().lower() for f in plots.split(",") if f.strip())
-                write_report(tmp, formats=formats, show=show)
+            from ..report.pdf import write_report
+
+            formats = tuple(f.strip().lower() for f in plots.split(",") if f.strip())
+            write_report(tmp, formats=formats, show=show)

@@ -24,7 +24,7 @@ from ..errors import InputError
 from ..shiftlist import ShiftList
 from .textfile import read_text_file
 
-__all__ = ["ShiftFormat", "FORMATS", "read_shifts", "read_text", "detect_format"]
+__all__ = ["ShiftFormat", "FORMATS", "read_shifts", "read_text"]
 
 
 def _is_star3(text: str, low: str) -> bool:
@@ -126,7 +126,3 @@ def _format_of(text: str) -> ShiftFormat:
     low = text.lower()
     return next(f for f in FORMATS if f.detect(text, low))
 
-
-def detect_format(text: str) -> str:
-    """Name of the :data:`FORMATS` entry that reads ``text`` ('star3', 'star21', ..., 'table')."""
-    return _format_of(text).name

@@ -19,11 +19,19 @@ from ..chem.residues import ONE_TO_THREE
 from ..errors import InputError
 from ..shiftlist import SampleConditions, ShiftList
 
-__all__ = ["build_shift_list", "choose", "conditions_from_rows", "VALUE_RANGE_PPM"]
+__all__ = ["build_shift_list", "choose", "conditions_from_rows", "one_letter_sequence", "VALUE_RANGE_PPM"]
 
 #: Plausible numeric window for any protein shift, ppm (common practice, no source).
 VALUE_RANGE_PPM = (-10.0, 300.0)
 _MISSING = {"", ".", "?", "-", "na", "n/a", "nan", "none"}
+
+
+def one_letter_sequence(code: str | None) -> list[tuple[str, str]] | None:
+    """[(seq_id, one-letter code)] numbered from 1 from a one-letter sequence string (whitespace
+    ignored), or None for a missing value ('.', '?', empty)."""
+    if not code or code in (".", "?"):
+        return None
+    return [(str(i + 1), c) for i, c in enumerate("".join(code.split()))]
 
 
 def conditions_from_rows(rows) -> SampleConditions:

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from ..errors import InputError
 from ..shiftlist import SampleConditions
-from .shift_rows import build_shift_list, choose, conditions_from_rows
+from .shift_rows import build_shift_list, choose, conditions_from_rows, one_letter_sequence
 from .star_syntax import StarFrame, parse_star_syntax
 
 __all__ = ["read_star21"]
@@ -57,9 +57,9 @@ def _sequence21(frames: list[StarFrame], component: str | None) -> list[tuple[in
         lp = f.loop_with("_Residue_seq_code")
         if lp is not None and lp.column("_Residue_label"):
             return list(zip(lp.column("_Residue_seq_code"), lp.column("_Residue_label")))
-        seq = f.tag("_Mol_residue_sequence")
-        if seq and seq not in ".?":
-            return [(str(i + 1), c) for i, c in enumerate("".join(seq.split()))]
+        seq = one_letter_sequence(f.tag("_Mol_residue_sequence"))
+        if seq:
+            return seq
     return None
 
 

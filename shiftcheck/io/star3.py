@@ -19,7 +19,7 @@ from collections import OrderedDict
 from ..chem.residues import THREE_TO_ONE
 from ..errors import InputError, ShiftcheckError
 from ..shiftlist import SampleConditions
-from .shift_rows import build_shift_list, choose, conditions_from_rows
+from .shift_rows import build_shift_list, choose, conditions_from_rows, one_letter_sequence
 from .star_syntax import parse_star_syntax
 
 __all__ = ["read_star3"]
@@ -132,9 +132,9 @@ def _sequence(entry, entity_id: str) -> list[tuple[str, str]] | None:
             ids, comps = (None, None) if lp is None else (_col(lp, id_tag), _col(lp, comp_tag))
             if ids and comps:
                 return list(zip(ids, comps))
-        code = _tag(f, "Polymer_seq_one_letter_code")
-        if code and code not in (".", "?"):
-            return [(str(i + 1), c) for i, c in enumerate("".join(code.split()))]
+        seq = one_letter_sequence(_tag(f, "Polymer_seq_one_letter_code"))
+        if seq:
+            return seq
     return None
 
 

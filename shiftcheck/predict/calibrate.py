@@ -22,6 +22,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -32,6 +33,10 @@ from ..errors import InputError
 from .features import StructureFeatures
 from .params import FORMAT
 from .randomcoil import load_table
+
+if TYPE_CHECKING:
+    from ..shiftlist import ShiftList
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["Pair", "Dataset", "read_pairs_file", "load_settings", "build_dataset", "load_datasets",
            "collect", "ridge_lambda", "ridge_solve", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
@@ -94,7 +99,7 @@ def read_pairs_file(path: str, data_dir: str | None = None) -> list[Pair]:
     return pairs
 
 
-def build_dataset(shifts, ens, seq_to_res: dict, label: str, group: str, weight: float = 1.0,
+def build_dataset(shifts: ShiftList, ens: Ensemble, seq_to_res: dict, label: str, group: str, weight: float = 1.0,
                   table: dict | None = None) -> Dataset:
     """Match measured shifts to the predictor's target atoms of ``ens``."""
     sf = StructureFeatures.from_ensemble(ens, shifts.conditions, table)

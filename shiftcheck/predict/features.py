@@ -24,6 +24,7 @@ burial         burial          contact density and half-sphere exposure (``bur:8
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 
@@ -32,6 +33,9 @@ from ..chem.residues import AA20
 from ..structure.geometry import backbone_torsions, chi1
 from .conformation import conformation_features
 from .randomcoil import _methyl_key, load_table, random_coil
+
+if TYPE_CHECKING:
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["GROUP_TERM", "HBOND_FEATURES", "Targets", "StructureFeatures", "find_targets"]
 
@@ -57,7 +61,7 @@ class Targets:
         return int(self.res_index.size)
 
 
-def find_targets(ens) -> Targets:
+def find_targets(ens: Ensemble) -> Targets:
     """Every atom of a nucleus class (:func:`shiftcheck.chem.nuclei.nucleus_class`) present in ``ens``."""
     present = ~np.all(np.isnan(ens.coords[..., 0]), axis=0)
     cand = set(_BACKBONE_NAMES)
@@ -107,7 +111,7 @@ class StructureFeatures:
     _burial: dict = field(default_factory=dict)
 
     @classmethod
-    def from_ensemble(cls, ens, conditions=None, table: dict | None = None) -> "StructureFeatures":
+    def from_ensemble(cls, ens: Ensemble, conditions=None, table: dict | None = None) -> "StructureFeatures":
         t = find_targets(ens)
         tors = backbone_torsions(ens)
         tors["chi1"] = chi1(ens)

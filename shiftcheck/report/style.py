@@ -22,7 +22,7 @@ from contextlib import contextmanager
 import matplotlib
 
 __all__ = ["NUCLEUS_COLOURS", "NUCLEUS_ORDER", "OFFSET_TYPE", "ISOTOPE_LABEL", "A4_PORTRAIT",
-           "A4_LANDSCAPE", "DPI", "SEQUENTIAL_CMAP", "NEUTRAL", "NEUTRAL_LIGHT", "EMPHASIS",
+           "A4_LANDSCAPE", "DPI", "SEQUENTIAL_CMAP", "NEUTRAL", "NEUTRAL_LIGHT",
            "BEST_GROUP", "FONT_SIZE", "SMALL", "TITLE", "MONO", "report_style", "nucleus_colour",
            "sequential_cmap", "NO_DATA_HATCH", "NO_DATA_EDGE"]
 
@@ -45,7 +45,6 @@ ISOTOPE_LABEL: dict[str, str] = {"H": "1H", "C": "13C", "N": "15N"}
 
 NEUTRAL = "#4D4D4D"        # dark grey: ordinary data
 NEUTRAL_LIGHT = "#BBBBBB"  # light grey: context, "before" histograms
-EMPHASIS = "#000000"       # black outlines: flagged atoms
 BEST_GROUP = "#332288"     # Tol indigo: filled markers of the indistinguishable best group
 SEQUENTIAL_CMAP = "Blues"
 NO_DATA_HATCH = "////"

@@ -30,10 +30,18 @@ from __future__ import annotations
 
 from collections import Counter
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ..chem.nuclei import METHYL_PROTONS, at_chain_terminus, entity_ends, nucleus_class
+
+if TYPE_CHECKING:
+    from collections.abc import Sequence
+    from ..predict.prediction import Prediction
+    from ..shiftlist import ShiftList
+    from ..structure.ensemble import Ensemble
+    from ..structure.mapping import Mapping
 
 __all__ = ["Comparison", "Entry", "build_comparison", "resolve_stereo", "group_name", "STEREO_PAIRS"]
 
@@ -137,7 +145,7 @@ def _is_placeholder(v: np.ndarray, placeholders) -> np.ndarray:
     return bad
 
 
-def build_comparison(shifts, ensembles, mappings, predictions, placeholders=(0.0, 999.0, -999.0),
+def build_comparison(shifts: ShiftList, ensembles: Sequence[Ensemble], mappings: Sequence[Mapping], predictions: Sequence[Prediction], placeholders=(0.0, 999.0, -999.0),
                      include_mean: bool = True) -> Comparison:
     """Assemble the common atom set of all models of all ensembles.
 

@@ -18,9 +18,8 @@ from functools import lru_cache
 
 import numpy as np
 
-from .ensemble import Ensemble
-
 from ..datafiles import load_data
+from .ensemble import Ensemble
 
 __all__ = ["add_hydrogens", "geometry_parameters", "HYDROGEN_SITES"]
 
