@@ -32,9 +32,11 @@ def main(argv=None) -> int:
     a = ap.parse_args(argv)
     data = realdata_root()
     from shiftcheck.io.coords import read_models
-    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.io.shift_formats import read_shifts
     from shiftcheck.predict.model import Predictor
+    from shiftcheck.pipeline import score_models
     from shiftcheck.score.scoring import score
+    from shiftcheck.structure.mapping import map_sequence
 
     shifts = read_shifts(data / "ubiquitin" / "bmr17769.str")
     native = read_models([data / "ubiquitin" / "1ubq.pdb"])[0]
@@ -44,13 +46,13 @@ def main(argv=None) -> int:
     t0 = time.perf_counter()
     p = pred.predict(decoys)
     t1 = time.perf_counter()
-    score(shifts, [decoys], predictions=[p], n_boot=200, seed=1)
+    score(shifts, [decoys], [map_sequence(shifts, decoys)], [p], n_boot=200, seed=1)
     t2 = time.perf_counter()
     print(f"predict: {t1 - t0:.2f} s ({decoys.n_models / (t1 - t0):.0f} models/s); "
           f"score (200 bootstrap): {t2 - t1:.2f} s ({decoys.n_models / (t2 - t1):.0f} models/s)")
     t0 = time.perf_counter()
     ens = read_models([data / "ubiquitin" / "1D3Z.pdb"])
-    res = score(shifts, ens, n_boot=1000, seed=1)
+    res = score_models(shifts, ens, n_boot=1000, seed=1)
     t1 = time.perf_counter()
     print(f"1D3Z (10 models) read + predict + score (1000 bootstrap): {t1 - t0:.2f} s; best {res.best_model}")
     return 0

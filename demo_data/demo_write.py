@@ -144,7 +144,7 @@ def write_star(path: Path, entry_id: str, title: str, lab: str, seq: list[str], 
     """
     import pynmrstar
 
-    from shiftcheck.shifts import THREE_TO_ONE
+    from shiftcheck.chem.residues import THREE_TO_ONE
 
     entry = pynmrstar.Entry.from_scratch(entry_id)
 

@@ -8,15 +8,14 @@ Protein NMR Group". Nothing here describes a real protein, a real laboratory or 
 Steps: fold five candidate models in torsion space (demo_fold.py), pack side chains, write them
 as PDB (and model 5 also as mmCIF); predict the shifts of the true model with shiftcheck's own
 predictor, add Gaussian noise per nucleus and plant four problems; write NMR-STAR 3.1,
-planted.json, and copy the inputs into shiftcheck/demo/ (package data).
+planted.json into shiftcheck/demo/ (package data; the only copy of the demo files).
 
-Usage: python demo_data/make_demo.py [--seed N] [--out DIR] [--no-package-copy]
+Usage: python demo_data/make_demo.py [--seed N] [--out DIR]
 """
 from __future__ import annotations
 
 import argparse
 import json
-import shutil
 import sys
 import time
 from pathlib import Path
@@ -24,12 +23,13 @@ from pathlib import Path
 import numpy as np
 
 HERE = Path(__file__).resolve().parent
+PKG_DEMO = HERE.parent / "shiftcheck" / "demo"
 sys.path.insert(0, str(HERE))
 
 from demo_fold import Design, fold, kabsch_rmsd, refine  # noqa: E402
 from demo_write import atomic_write, pack_sidechains, write_mmcif, write_pdb, write_star  # noqa: E402
 
-from shiftcheck.shifts import ONE_TO_THREE  # noqa: E402
+from shiftcheck.chem.residues import ONE_TO_THREE  # noqa: E402
 from shiftcheck.structure.builder import build_backbone, build_protein  # noqa: E402
 
 SEED = 20240611
@@ -224,7 +224,7 @@ def predicted_true_shifts(model_path: Path) -> tuple[list[tuple], dict, str]:
     from shiftcheck.io.coords import read_models
     from shiftcheck.predict.model import Predictor
 
-    from shiftcheck.shifts import SampleConditions
+    from shiftcheck.shiftlist import SampleConditions
 
     ens = read_models([str(model_path)])[0]
     pred = Predictor()
@@ -331,9 +331,7 @@ def make_shift_file(true_model: Path, out: Path, seed: int = SEED) -> tuple[Path
 def main(argv: list[str] | None = None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--seed", type=int, default=SEED)
-    ap.add_argument("--out", type=Path, default=HERE, help="output folder (default: demo_data/)")
-    ap.add_argument("--no-package-copy", action="store_true",
-                    help="do not copy the inputs into shiftcheck/demo/")
+    ap.add_argument("--out", type=Path, default=PKG_DEMO, help="output folder (default: shiftcheck/demo/)")
     args = ap.parse_args(argv)
     out: Path = args.out
     out.mkdir(parents=True, exist_ok=True)
@@ -354,12 +352,6 @@ def main(argv: list[str] | None = None) -> int:
     atomic_write(out / "planted.json", json.dumps(planted, indent=1) + "\n")
     print(f"  wrote {star.name} ({planted['n_shifts']} shifts), {len(files)} models, planted.json "
           f"({time.time() - t0:.1f} s)")
-    if not args.no_package_copy:
-        pkg = HERE.parent / "shiftcheck" / "demo"
-        pkg.mkdir(exist_ok=True)
-        for f in [star.name, "planted.json"] + [x["file"] for x in files]:
-            shutil.copyfile(out / f, pkg / f)
-        print(f"  copied the inputs to {pkg}")
     return 0
 
 

@@ -21,12 +21,12 @@ __all__ = ["__version__", "read_shifts", "read_models", "map_sequence", "Predict
            "score_models", "write_tables", "write_report"]
 
 _LAZY = {
-    "read_shifts": ("shiftcheck.io.shifts", "read_shifts"),
+    "read_shifts": ("shiftcheck.io.shift_formats", "read_shifts"),
     "read_models": ("shiftcheck.io.coords", "read_models"),
     "map_sequence": ("shiftcheck.structure.mapping", "map_sequence"),
     "Predictor": ("shiftcheck.predict.model", "Predictor"),
     "predict_shifts": ("shiftcheck.predict.model", "predict"),
-    "score_models": ("shiftcheck.score.scoring", "score"),
+    "score_models": ("shiftcheck.pipeline", "score_models"),
     "write_tables": ("shiftcheck.report.tables", "write_tables"),
     "write_report": ("shiftcheck.report.pdf", "write_report"),
 }

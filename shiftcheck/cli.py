@@ -30,12 +30,7 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--debug", action="store_true", help="show a traceback on errors")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
     for name in COMMANDS:
-        try:
-            mod = importlib.import_module(f".commands.{name}", __package__)
-        except ModuleNotFoundError as exc:  # command not built yet
-            if exc.name != f"{__package__}.commands.{name}":
-                raise
-            continue
+        mod = importlib.import_module(f".commands.{name}", __package__)
         p = mod.add_parser(sub)
         p.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                        help="show a traceback on errors")

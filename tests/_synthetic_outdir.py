@@ -13,7 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
-from shiftcheck.nuclei import nucleus_class
+from shiftcheck.chem.nuclei import nucleus_class
 
 SEQ = "MKVLAEGSFTPEAIRKWLDGHYVNQTAPFGEKLSDE"   # invented
 THREE = {"A": "ALA", "C": "CYS", "D": "ASP", "E": "GLU", "F": "PHE", "G": "GLY", "H": "HIS",

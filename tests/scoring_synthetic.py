@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from shiftcheck.shifts import ShiftList
+from shiftcheck.shiftlist import ShiftList
 
 SEQ = ("MET GLN ILE PHE VAL LYS THR LEU THR GLY LYS THR ILE THR LEU GLU VAL GLU PRO SER ASP THR "
        "ILE GLU ASN VAL LYS ALA LYS ILE GLN ASP LYS GLU GLY ILE PRO PRO ASP GLN GLN ARG LEU ILE "

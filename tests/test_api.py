@@ -6,13 +6,13 @@ import shiftcheck
 
 
 def test_public_names_are_functions_after_subpackage_imports():
-    for mod in ("shiftcheck.score.scoring", "shiftcheck.predict.model", "shiftcheck.report.pdf",
+    for mod in ("shiftcheck.score.scoring", "shiftcheck.pipeline", "shiftcheck.predict.model", "shiftcheck.report.pdf",
                 "shiftcheck.io.coords", "shiftcheck.structure.mapping"):
         importlib.import_module(mod)
-    from shiftcheck.score.scoring import score
+    from shiftcheck.pipeline import score_models
     from shiftcheck.predict.model import predict, Predictor
 
-    assert shiftcheck.score_models is score
+    assert shiftcheck.score_models is score_models
     assert shiftcheck.predict_shifts is predict
     assert shiftcheck.Predictor is Predictor
     for name in shiftcheck.__all__:

@@ -11,7 +11,7 @@ import gzip
 import numpy as np
 import pytest
 
-from shiftcheck.io.coords import read_model_file, read_models, stack_compatible
+from shiftcheck.io.coords import read_model_file, read_models
 from shiftcheck.structure.builder import build_protein
 
 SEQ = ["MET", "ALA", "GLY", "PHE", "PRO", "LYS", "VAL", "ASN"]
@@ -140,16 +140,6 @@ def test_missing_side_chain_reported(tmp_path):
              if not (r == 5 and n in ("CD", "CE", "NZ"))]
     got = read_model_file(write(tmp_path, "trunc.pdb", lines))
     assert any("1 residue(s) lack side-chain atoms: LYS 6" in w for w in got.warnings)
-
-
-def test_stack_compatible(tmp_path):
-    files = [write(tmp_path, f"d{i}.pdb", pdb_lines(_ens(shift=float(i)))) for i in range(3)]
-    other = _ens()
-    odd = write(tmp_path, "odd.pdb", pdb_lines(other)[:-3])
-    stacks = stack_compatible(read_models(files + [odd]))
-    assert [s.n_models for s in stacks] == [3, 1]
-    assert stacks[0].model_names == ["d0.pdb", "d1.pdb", "d2.pdb"]
-    assert np.allclose(stacks[0].coords[2] - stacks[0].coords[0], 2.0, atol=2e-3)
 
 
 # ------------------------------------------------------------------ real files

@@ -14,7 +14,7 @@ import pytest
 
 from shiftcheck.cli import main
 from shiftcheck.commands.demo import demo_inputs
-from shiftcheck.io.shifts import read_shifts
+from shiftcheck.io.shift_formats import read_shifts
 from shiftcheck.report.corrected_star import CORRECTION_TYPE, FILE_NAME
 
 

@@ -1,6 +1,7 @@
-"""Every number shipped in shiftcheck/data/*.json carries a source: a non-empty "source" (or
-"_source", "sources", "_comment") string in the object that holds it or in one that encloses it
-(project rule: every constant and fitted number lives in a data file with its source)."""
+"""Every number shipped in shiftcheck/data/*.json carries a source: a non-empty "source" string
+in the object that holds it or in one that encloses it (project rule: every constant and fitted
+number lives in a data file with its source). Metadata has one spelling in every file: a
+top-level "description" and "source" strings (shiftcheck.datafiles.META_KEYS)."""
 import json
 from importlib import resources
 
@@ -8,7 +9,7 @@ import pytest
 
 DATA = resources.files("shiftcheck.data")
 FILES = sorted(p.name for p in DATA.iterdir() if p.name.endswith(".json"))
-SOURCE_KEYS = ("source", "_source", "sources", "_comment", "_sources")
+SOURCE_KEYS = ("source",)
 
 
 def _has_source(obj) -> bool:
@@ -40,3 +41,21 @@ def test_every_number_has_a_source(name):
 
 def test_files_found():
     assert "params_default.json" in FILES and "random_coil.json" in FILES
+
+
+def _keys(obj):
+    if isinstance(obj, dict):
+        for k, v in obj.items():
+            yield k
+            yield from _keys(v)
+    elif isinstance(obj, list):
+        for v in obj:
+            yield from _keys(v)
+
+
+@pytest.mark.parametrize("name", FILES)
+def test_one_spelling_of_metadata(name):
+    data = json.loads(DATA.joinpath(name).read_text())
+    assert isinstance(data.get("description"), str) and data["description"], name
+    odd = sorted({k for k in _keys(data) if k.startswith("_") or k in ("comment", "sources", "note")})
+    assert not odd, f"{name}: metadata keys other than description/source: {odd}"

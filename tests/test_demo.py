@@ -55,12 +55,13 @@ def _every(summary: dict) -> dict[int, set]:
     return got
 
 
-def test_package_copy_equals_demo_data():
-    # the installed package carries exactly the generated inputs
+def test_demo_files_exist_once():
+    # the package holds the generated inputs; demo_data/ holds only the generator and its README
     planted = _planted()
     names = ["planted.json", planted["shift_file"]] + [m["file"] for m in planted["models"]]
     for n in names:
-        assert _sha(PKG_DEMO / n) == _sha(DEMO_DATA / n), n
+        assert (PKG_DEMO / n).is_file(), n
+        assert not (DEMO_DATA / n).exists(), n
 
 
 def test_demo_runs_and_writes_outputs(demo_run):
@@ -126,12 +127,12 @@ def test_shift_file_is_valid_nmrstar_31():
     import pynmrstar
 
     planted = _planted()
-    entry = pynmrstar.Entry.from_file(str(DEMO_DATA / planted["shift_file"]))
+    entry = pynmrstar.Entry.from_file(str(PKG_DEMO / planted["shift_file"]))
     assert entry.validate() == []
     assert entry.get_tag("_Sample_condition_variable.Val") == ["298", "6.5"]
-    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.io.shift_formats import read_shifts
 
-    sl = read_shifts(DEMO_DATA / planted["shift_file"])
+    sl = read_shifts(PKG_DEMO / planted["shift_file"])
     assert len(sl) == planted["n_shifts"]
     assert sl.conditions.temperature_K == pytest.approx(298.0) and sl.conditions.pH == pytest.approx(6.5)
 
@@ -139,9 +140,9 @@ def test_shift_file_is_valid_nmrstar_31():
 def test_demo_files_say_they_are_invented():
     planted = _planted()
     for m in planted["models"]:
-        head = (DEMO_DATA / m["file"]).read_text()[:3000].upper()
+        head = (PKG_DEMO / m["file"]).read_text()[:3000].upper()
         assert "INVENTED" in head, m["file"]
-    assert "INVENTED" in (DEMO_DATA / planted["shift_file"]).read_text()[:3000].upper()
+    assert "INVENTED" in (PKG_DEMO / planted["shift_file"]).read_text()[:3000].upper()
     assert "invented" in (DEMO_DATA / "README.md").read_text().lower()
 
 
@@ -167,9 +168,9 @@ def test_generator_reproduces_true_model_and_shift_file(tmp_path):
     models = gen.make_models(planted["seed"], kinds=("true",), log=lambda *_: None)
     path = gen.write_model(models["true"][0], "true", tmp_path)
     assert path.name == planted["true_model"]
-    assert _sha(path) == _sha(DEMO_DATA / path.name)
+    assert _sha(path) == _sha(PKG_DEMO / path.name)
     star, new_planted = gen.make_shift_file(path, tmp_path, planted["seed"])
-    assert _sha(star) == _sha(DEMO_DATA / planted["shift_file"])
+    assert _sha(star) == _sha(PKG_DEMO / planted["shift_file"])
     for key in ("misassigned", "ca_cb_swap", "offset", "missing", "n_shifts"):
         assert new_planted[key] == planted[key]
 
@@ -179,6 +180,6 @@ def test_generator_reproduces_true_model_and_shift_file(tmp_path):
                            "set SHIFTCHECK_DEMO_FULL=1 to run it")
 def test_generator_reproduces_every_file(tmp_path):
     gen = _load_generator()
-    assert gen.main(["--out", str(tmp_path), "--no-package-copy"]) == 0
+    assert gen.main(["--out", str(tmp_path)]) == 0
     for f in sorted(p.name for p in tmp_path.iterdir()):
-        assert _sha(tmp_path / f) == _sha(DEMO_DATA / f), f
+        assert _sha(tmp_path / f) == _sha(PKG_DEMO / f), f

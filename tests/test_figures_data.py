@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 from _synthetic_outdir import OFFSETS, make_outdir
-from shiftcheck.nuclei import nucleus_class
+from shiftcheck.chem.nuclei import nucleus_class
 from shiftcheck.report import figures as fg
 from shiftcheck.report import pages
 from shiftcheck.report.load import load_outdir

@@ -18,7 +18,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from shiftcheck.errors import ShiftcheckError
-from shiftcheck.io.shifts import read_shifts
+from shiftcheck.io.shift_formats import read_shifts
 
 _ROWS = 120
 

@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 from shiftcheck.io.coords import read_model_file, read_models
-from shiftcheck.nuclei import AROMATIC_PROTONS, METHYL_PROTONS
+from shiftcheck.chem.nuclei import AROMATIC_PROTONS, METHYL_PROTONS
 from shiftcheck.structure.hydrogens import (_bisector, _methylene, _place, add_hydrogens,
                                             geometry_parameters)
 

@@ -43,7 +43,7 @@ def test_injection_itself(realdata):
     # the injector changes exactly what it says (independent of the scorer)
     import numpy as np
 
-    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.io.shift_formats import read_shifts
     from validate_scoring import inject_errors
 
     s = read_shifts(realdata / "ubiquitin" / "bmr17769.str")

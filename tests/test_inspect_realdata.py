@@ -39,7 +39,7 @@ def _models(folder: Path):
 @pytest.mark.parametrize("folder,shift_file", _pairs())
 def test_inspect_every_pair(realdata, folder, shift_file):
     from shiftcheck.commands.inspect import describe
-    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.io.shift_formats import read_shifts
     from shiftcheck.structure.mapping import map_sequence
 
     shifts = read_shifts(shift_file)

@@ -13,7 +13,8 @@ import numpy as np
 import pytest
 
 from shiftcheck.errors import MappingError
-from shiftcheck.shifts import ONE_TO_THREE, ShiftList
+from shiftcheck.chem.residues import ONE_TO_THREE
+from shiftcheck.shiftlist import ShiftList
 from shiftcheck.structure.ensemble import Ensemble
 from shiftcheck.structure.mapping import map_sequence
 
@@ -109,7 +110,7 @@ def test_ubiquitin_sequence_matches_1ubq(realdata):
 ])
 def test_real_offsets(realdata, folder, shifts, model, offset, identity):
     from shiftcheck.io.coords import read_model_file
-    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.io.shift_formats import read_shifts
 
     m = map_sequence(read_shifts(realdata / folder / shifts), read_model_file(realdata / folder / model))
     assert m.segments[0][4] == offset

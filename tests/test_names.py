@@ -9,7 +9,7 @@ and their v3 equivalents (HB2, HB3) follow the wwPDB remediation (PDB format v3.
 """
 import pytest
 
-from shiftcheck.structure.names import (expand_pseudo_atom, expand_residue_atom_names,
+from shiftcheck.chem.names import (expand_pseudo_atom, expand_residue_atom_names,
                                         is_pseudo_atom, normalise_atom_name, normalise_comp_id,
                                         normalise_residue_atom_names)
 

@@ -16,7 +16,7 @@ import pytest
 from shiftcheck.cli import main
 from shiftcheck.errors import InputError
 from shiftcheck.io.nef import nef_atom_names
-from shiftcheck.io.shifts import read_shifts
+from shiftcheck.io.shift_formats import read_shifts
 
 TARGETS = ["2jr2", "2juw", "2k07", "2k2e", "2kcu", "2kko", "2ko1", "2kpu", "2loy", "2luz",
            "2png", "6nbn"]

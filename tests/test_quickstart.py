@@ -1,6 +1,6 @@
 """The README quick start: exactly two commands, both defined in the Makefile, and the output
 of the first one (`make demo`, run by .ci/run in a fresh virtual environment of a clean clone)
-shows what the demo planted (common practice, no source; the "truth" is demo_data/planted.json).
+shows what the demo planted (common practice, no source; the "truth" is shiftcheck/demo/planted.json).
 
 .ci/run exports SHIFTCHECK_QUICKSTART_DEMO=demo_output after running `make demo`; without it
 the output checks skip with a message (tests/test_demo.py runs the demo in-process anyway).

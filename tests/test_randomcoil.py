@@ -5,7 +5,7 @@ import pytest
 
 from shiftcheck.predict.randomcoil import (cis_mask, load_table, ph_correction, table_value,
                                            temperature_correction)
-from shiftcheck.predict.features import AA20
+from shiftcheck.chem.residues import AA20
 
 T = load_table()
 

@@ -42,6 +42,12 @@ def ens_pred():
     return ens, Predictor().predict(ens)
 
 
+def _score(sl, ens, pred, **kw):
+    from shiftcheck.structure.mapping import map_sequence
+
+    return score(sl, [ens], [map_sequence(sl, ens)], [pred], **kw)
+
+
 @pytest.mark.parametrize("dc,dh,dn", [(2.0, 0.3, 0.0), (-1.5, 0.0, 2.5), (0.0, 0.0, 0.0)])
 def test_offsets_recovered_from_synthetic_list(ens_pred, dc, dh, dn):
     # shifts = model-1 prediction + noise of the size the predictor makes + known offsets
@@ -52,7 +58,7 @@ def test_offsets_recovered_from_synthetic_list(ens_pred, dc, dh, dn):
     vals[iso == "H"] += dh
     vals[iso == "N"] += dn
     sl = shifts_from(vals, pred, noise=0.1, seed=3)
-    res = score(sl, [ens], predictions=[pred], n_boot=300)
+    res = _score(sl, ens, pred, n_boot=300)
     # consensus over three different models: C offset tolerance reflects conformation spread
     assert res.offsets["H"].value == pytest.approx(dh, abs=0.05)
     assert res.offsets["N"].value == pytest.approx(dn, abs=0.5)
@@ -69,8 +75,8 @@ def test_modes_off_and_force(ens_pred):
     vals = pred.values[0].copy()
     vals[np.array([a[0] for a in pred.atom_id]) == "C"] += 2.0
     sl = shifts_from(vals, pred, noise=0.1)
-    off = score(sl, [ens], predictions=[pred], n_boot=100, reref="off")
-    force = score(sl, [ens], predictions=[pred], n_boot=100, reref="force")
+    off = _score(sl, ens, pred, n_boot=100, reref="off")
+    force = _score(sl, ens, pred, n_boot=100, reref="force")
     assert not any(o.applied for o in off.offsets.values())
     assert all(o.applied for o in force.offsets.values())
     # correcting a real +2 ppm 13C offset must lower the CA RMSD of the true model

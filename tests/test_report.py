@@ -146,7 +146,6 @@ REAL_SUBSET = {"ubiquitin": ("bmr17769.str", ("1D3Z.pdb", "1ubq.pdb")),
 @pytest.mark.realdata
 @pytest.mark.parametrize("folder", sorted(REAL_SUBSET))
 def test_realdata_score_then_report(realdata, tmp_path, folder):
-    pytest.importorskip("shiftcheck.commands.score", reason="shiftcheck score not available yet")
     shifts, models = REAL_SUBSET[folder]
     out = tmp_path / folder
     cmd = [sys.executable, "-m", "shiftcheck", "score", str(realdata / folder / shifts),

@@ -6,7 +6,7 @@ import gzip
 import pytest
 
 from shiftcheck.errors import InputError
-from shiftcheck.io.shifts import read_shifts
+from shiftcheck.io.shift_formats import read_shifts
 
 SMALL3 = """data_small
 save_list_1

@@ -3,8 +3,8 @@ import numpy as np
 import pytest
 
 from shiftcheck.errors import InputError
-from shiftcheck.io.shifts import read_shifts
-from shiftcheck.nuclei import nucleus_class
+from shiftcheck.io.shift_formats import read_shifts
+from shiftcheck.chem.nuclei import nucleus_class
 
 # A small NMR-STAR 3.1 entry written for this test (tag names from the NMR-STAR 3.1 dictionary):
 # two shift lists, two entities in list 1, conditions in °C.

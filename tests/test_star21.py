@@ -3,8 +3,8 @@ import numpy as np
 import pytest
 
 from shiftcheck.errors import InputError
-from shiftcheck.io.shifts import read_shifts
-from shiftcheck.io.star21 import parse_star_syntax
+from shiftcheck.io.shift_formats import read_shifts
+from shiftcheck.io.star_syntax import parse_star_syntax
 
 # STAR rules exercised here (Hall 1991; Hall & Spadaccini 1994): comments, quotes closing only
 # before whitespace, semicolon text blocks, several loops per save frame, rows across lines.

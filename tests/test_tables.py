@@ -1,12 +1,12 @@
-"""Plain shift tables (format documented in shiftcheck/io/tables.py)."""
+"""Plain shift tables (format documented in shiftcheck/io/shift_table.py)."""
 import gzip
 
 import numpy as np
 import pytest
 
 from shiftcheck.errors import InputError
-from shiftcheck.io.shifts import read_shifts
-from shiftcheck.io.tables import TABLE_COLUMNS
+from shiftcheck.io.shift_formats import read_shifts
+from shiftcheck.io.shift_table import TABLE_COLUMNS
 
 
 def _write(tmp_path, text, name="t.txt"):
@@ -17,8 +17,8 @@ def _write(tmp_path, text, name="t.txt"):
 
 def test_column_order_documented():
     # the constant the reader uses must be the order the format description promises users
-    # (module docstring of shiftcheck/io/tables.py; common practice, no source)
-    import shiftcheck.io.tables as tables
+    # (module docstring of shiftcheck/io/shift_table.py; common practice, no source)
+    import shiftcheck.io.shift_table as tables
 
     doc = " ".join(tables.__doc__.split())
     assert "Column order without a header: **seq_id, residue, atom, shift, error**" in doc

@@ -1,12 +1,12 @@
 """Chain ends: which residues count as charged termini (common practice, no source: the free
 amine and carboxylate shift nearby nuclei by ppm, and peptide random-coil tables exclude them).
 Checked on public entries whose construct boundaries are known from the files themselves."""
-from shiftcheck.nuclei import at_chain_terminus, entity_ends
+from shiftcheck.chem.nuclei import at_chain_terminus, entity_ends
 
 
 def test_ubiquitin_ends_are_termini(realdata):
     from shiftcheck.io.coords import read_models
-    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.io.shift_formats import read_shifts
     from shiftcheck.structure.mapping import map_sequence
 
     s = read_shifts(realdata / "ubiquitin" / "bmr17769.str")
@@ -20,7 +20,7 @@ def test_ubiquitin_ends_are_termini(realdata):
 
 def test_tagged_construct_cancels_the_ends(realdata):
     from shiftcheck.io.coords import read_models
-    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.io.shift_formats import read_shifts
     from shiftcheck.structure.mapping import map_sequence
 
     s = read_shifts(realdata / "hr3102a" / "2krk_shifts.str")
@@ -40,8 +40,8 @@ def test_free_amine_nitrogen_is_not_a_range_error(realdata):
 
     import numpy as np
 
-    from shiftcheck.io.shifts import read_shifts
-    from shiftcheck.score.sanity import check_shifts
+    from shiftcheck.io.shift_formats import read_shifts
+    from shiftcheck.score.datacheck import check_shifts
 
     s = read_shifts(realdata / "gb3" / "bmr15283.str")
     first_n = (s.seq_id == s.sequence_seq_ids.min()) & (s.atom_id == "N")

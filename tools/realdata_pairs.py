@@ -1,7 +1,7 @@
 """The (shift file, model file, chain) pairs of the public realdata folder and how to load them.
 
 The pairs are listed in ``tools/realdata_pairs.tsv`` (the same file ``shiftcheck calibrate``
-reads). :func:`load` reads them with the project's readers (``shiftcheck.io.shifts``,
+reads). :func:`load` reads them with the project's readers (``shiftcheck.io.shift_formats``,
 ``shiftcheck.io.coords``, ``shiftcheck.structure.mapping``); while the shift reader is not yet
 available it falls back to pynmrstar for NMR-STAR 3.x files (2.1 files are then skipped).
 """
@@ -33,10 +33,10 @@ def pairs(data_dir: Path | None = None):
     return read_pairs_file(str(PAIRS_FILE), str(data_dir or realdata_dir()))
 
 
-def _interim_read(path: str):  # pragma: no cover - only until shiftcheck.io.shifts lands
+def _interim_read(path: str):  # pragma: no cover - only until shiftcheck.io.shift_formats lands
     import pynmrstar
 
-    from shiftcheck.shifts import SampleConditions, ShiftList
+    from shiftcheck.shiftlist import SampleConditions, ShiftList
 
     entry = pynmrstar.Entry.from_file(path)
     loops = entry.get_loops_by_category("_Atom_chem_shift")
@@ -72,7 +72,7 @@ def _interim_read(path: str):  # pragma: no cover - only until shiftcheck.io.shi
 def read_shifts_any(path: str):
     """The project's reader; the interim pynmrstar reader while the project's is incomplete."""
     try:
-        from shiftcheck.io.shifts import read_shifts
+        from shiftcheck.io.shift_formats import read_shifts
 
         return read_shifts(path)
     except ImportError:

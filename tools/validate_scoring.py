@@ -49,7 +49,7 @@ PROTEINS = [
 
 def _load(root: Path, folder: str, shifts: str, model: str):
     from shiftcheck.io.coords import read_models
-    from shiftcheck.io.shifts import read_shifts
+    from shiftcheck.io.shift_formats import read_shifts
 
     return read_shifts(root / folder / shifts), read_models([root / folder / model])[0]
 
@@ -103,8 +103,8 @@ def injected_error_run(root: Path, folder: str, shifts_file: str, model_files: l
                        n_boot: int = 200, seed: int = 7) -> dict:
     """Score the real list and the list with injected errors against the folder's models."""
     from shiftcheck.io.coords import read_models
-    from shiftcheck.io.shifts import read_shifts
-    from shiftcheck.score.scoring import score
+    from shiftcheck.io.shift_formats import read_shifts
+    from shiftcheck.pipeline import score_models as score
 
     shifts = read_shifts(root / folder / shifts_file)
     ens = read_models([root / folder / m for m in model_files])
@@ -135,7 +135,7 @@ def decoy_run(root: Path, folder: str, shifts_file: str, native_file: str, n: in
     """Native + decoys of one protein: native rank and Spearman rho(score, CA-RMSD)."""
     from make_decoys import make_decoys
 
-    from shiftcheck.score.scoring import score
+    from shiftcheck.pipeline import score_models as score
 
     shifts, nat = _load(root, folder, shifts_file, native_file)
     nat = nat.select_models([0])
@@ -161,8 +161,8 @@ def decoy_run(root: Path, folder: str, shifts_file: str, native_file: str, n: in
 def xray_nmr_run(root: Path, folder: str, shifts_file: str, xray: str, nmr: str, n_boot: int = 200) -> dict:
     """Score the X-ray structure (hydrogens built) beside the NMR ensemble (hydrogens read)."""
     from shiftcheck.io.coords import read_models
-    from shiftcheck.io.shifts import read_shifts
-    from shiftcheck.score.scoring import score
+    from shiftcheck.io.shift_formats import read_shifts
+    from shiftcheck.pipeline import score_models as score
 
     shifts = read_shifts(root / folder / shifts_file)
     ens = read_models([root / folder / xray, root / folder / nmr])

@@ -1,7 +1,7 @@
 """``shiftcheck check SHIFTS [MODEL ...]``: data checks that need no structure.
 
 Values outside the usual range, placeholders, duplicated atoms, CA/CB swaps, cis-Pro evidence and
-Cys redox state (:mod:`shiftcheck.score.sanity`). With models, the cis-Pro and Cys findings are
+Cys redox state (:mod:`shiftcheck.score.datacheck`). With models, the cis-Pro and Cys findings are
 compared with the models' peptide bonds and disulfides. Prints one line per finding; exit 0
 (findings are advice, not errors), 2 on unreadable input.
 """
@@ -32,8 +32,8 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
 
 
 def run(args) -> int:
-    from ..io.shifts import read_shifts
-    from ..score.sanity import check_against_models, check_shifts
+    from ..io.shift_formats import read_shifts
+    from ..score.datacheck import check_against_models, check_shifts
 
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
     findings = check_shifts(shifts)

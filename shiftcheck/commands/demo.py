@@ -53,17 +53,6 @@ def demo_inputs():
         yield shifts, models, planted
 
 
-def _score_args(shifts: Path, models: list[Path], outdir: str, force: bool, no_report: bool,
-                quiet: bool) -> argparse.Namespace:
-    from . import score as score_cmd
-
-    parser = argparse.ArgumentParser(prog="shiftcheck")
-    score_cmd.add_parser(parser.add_subparsers())
-    argv = ["score", str(shifts), *map(str, models), "-o", outdir]
-    argv += ["--force"] * force + ["--no-report"] * no_report + ["--quiet"] * quiet
-    return parser.parse_args(argv)
-
-
 def findings(outdir: Path) -> dict:
     """What the scoring found, read back from summary.json and the flags in it."""
     s = json.loads((Path(outdir) / "summary.json").read_text())
@@ -112,13 +101,18 @@ def _report_lines(found: dict, planted: dict, outdir: Path) -> list[str]:
 
 
 def run(args) -> int:
-    from . import score as score_cmd
+    from ..pipeline import score_files
+    from ..report.console import console_summary
+    from ..report.outdir import check_outdir
+    from .score import _Progress, write_outputs
 
     with demo_inputs() as (shifts, models, planted):
-        sargs = _score_args(shifts, models, args.outdir, args.force, args.no_report, args.quiet)
-        code = score_cmd.run(sargs)
-        if code:
-            return code
+        inputs = [str(shifts), *map(str, models)]
+        check_outdir(args.outdir, args.force, inputs)
+        res = score_files(str(shifts), [str(m) for m in models], progress=_Progress(args.quiet))
+        write_outputs(res, args.outdir, force=args.force, inputs=inputs, report=not args.no_report)
+        if not args.quiet:
+            print(console_summary(res, outdir=args.outdir))
     outdir = Path(args.outdir).absolute()
     found = findings(outdir)
     print("\n".join(_report_lines(found, planted, outdir)))

@@ -8,8 +8,14 @@ from __future__ import annotations
 
 import argparse
 from collections import Counter
+from typing import TYPE_CHECKING
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from collections.abc import Sequence
+    from ..shiftlist import ShiftList
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["add_parser", "run", "describe"]
 
@@ -36,7 +42,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
 
 
 def _shift_block(shifts) -> list[str]:
-    from ..nuclei import nucleus_class
+    from ..chem.nuclei import nucleus_class
 
     out = [f"Shifts: {shifts.source}"]
     name = f" ({shifts.list_name})" if shifts.list_name else ""
@@ -74,7 +80,7 @@ def _model_block(ens) -> list[str]:
     return out
 
 
-def describe(shifts, ensembles, min_identity=None, alignment=False) -> tuple[str, list]:
+def describe(shifts: ShiftList, ensembles: Sequence[Ensemble], min_identity=None, alignment=False) -> tuple[str, list]:
     """Text report of what was read; returns (text, list of MappingError for refused mappings)."""
     from ..errors import MappingError
     from ..structure.mapping import DEFAULT_MIN_IDENTITY, map_sequence
@@ -107,7 +113,7 @@ def describe(shifts, ensembles, min_identity=None, alignment=False) -> tuple[str
 
 def run(args) -> int:
     from ..io.coords import read_models
-    from ..io.shifts import read_shifts
+    from ..io.shift_formats import read_shifts
 
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
     ensembles = read_models(args.models, chain=args.chain) if args.models else []

@@ -7,10 +7,15 @@ import io
 import os
 import sys
 import tempfile
+from typing import TYPE_CHECKING
+
+from ..defaults import RING_MODELS
+
+if TYPE_CHECKING:
+    from ..predict.prediction import Prediction
 
 __all__ = ["add_parser", "run", "prediction_rows"]
 
-_RING_CHOICES = ("haigh-mallion", "johnson-bovey", "point-dipole")
 
 
 def add_parser(subparsers) -> argparse.ArgumentParser:
@@ -22,13 +27,13 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("-o", "--output", metavar="FILE.csv", help="write a CSV table (default: print a table)")
     p.add_argument("--chain", metavar="C", help="chain ID (default: the first protein chain)")
     p.add_argument("--params", metavar="FILE", help="parameter file (default: the shipped one)")
-    p.add_argument("--ring-model", choices=_RING_CHOICES, help="ring-current model (default: the parameter file's)")
+    p.add_argument("--ring-model", choices=RING_MODELS, help="ring-current model (default: the parameter file's)")
     p.add_argument("--temperature", type=float, metavar="K", help="sample temperature in K (random-coil correction)")
     p.add_argument("--ph", type=float, metavar="PH", help="sample pH (His ring-proton correction)")
     return p
 
 
-def prediction_rows(pred):
+def prediction_rows(pred: Prediction):
     """Yield (header, rows) for one Prediction: one row per (model, atom)."""
     from ..predict.model import TERMS
 
@@ -64,7 +69,7 @@ def _write_atomic(path: str, text: str) -> None:
 def run(args) -> int:
     from ..io.coords import read_models
     from ..predict.model import Predictor
-    from ..shifts import SampleConditions
+    from ..shiftlist import SampleConditions
 
     predictor = Predictor(args.params, args.ring_model)
     cond = SampleConditions(temperature_K=args.temperature, pH=args.ph)

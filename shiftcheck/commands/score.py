@@ -8,12 +8,15 @@ from __future__ import annotations
 
 import argparse
 import sys
+from typing import TYPE_CHECKING
 
-import numpy as np
-
+from ..defaults import DEFAULT_MIN_IDENTITY, RING_MODELS, scoring_default
 from ..errors import InputError
 
-__all__ = ["add_parser", "run", "console_summary", "add_common_options"]
+if TYPE_CHECKING:
+    from ..score.scoring import ScoreResult
+
+__all__ = ["add_parser", "run", "add_common_options"]
 
 
 def add_common_options(p: argparse.ArgumentParser) -> None:
@@ -46,19 +49,20 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--params", metavar="FILE", help="predictor parameter file (default: shipped)")
     p.add_argument("--min-identity", metavar="F", type=float, default=None,
                    help="lowest sequence identity accepted between the shift list and a model "
-                        "(default 0.9; lower it for mutants, knowing the mutated residues are compared too)")
+                        f"(default {DEFAULT_MIN_IDENTITY:g}; lower it for mutants, knowing the mutated residues are compared too)")
     p.add_argument("--ring-model", metavar="NAME",
-                   choices=["haigh-mallion", "johnson-bovey", "point-dipole"],
+                   choices=list(RING_MODELS),
                    help="ring-current model (default: the parameter file's)")
     p.add_argument("--reref", choices=["auto", "off", "force"], default="auto",
                    help="referencing correction: auto (when significant and above threshold), "
                         "off, force (default: auto)")
-    p.add_argument("--k-sigma", metavar="K", type=float, default=3.0,
-                   help="flag atoms with |residual| > K x expected error (default: 3)")
-    p.add_argument("--bootstrap", metavar="N", type=int, default=1000,
-                   help="bootstrap replicates (default: 1000)")
+    k_sigma, n_boot = scoring_default("k_sigma"), scoring_default("n_boot")
+    p.add_argument("--k-sigma", metavar="K", type=float, default=k_sigma,
+                   help=f"flag atoms with |residual| > K x expected error (default: {k_sigma:g})")
+    p.add_argument("--bootstrap", metavar="N", type=int, default=n_boot,
+                   help=f"bootstrap replicates (default: {n_boot})")
     p.add_argument("--seed", metavar="S", type=int, default=None,
-                   help="random seed of the bootstrap (default: 20240611)")
+                   help=f"random seed of the bootstrap (default: {scoring_default('seed')})")
     p.add_argument("--no-mean", action="store_true",
                    help="do not score the ensemble-mean prediction (name#mean)")
     p.add_argument("--force", action="store_true", help="write into a non-empty OUTDIR")
@@ -96,80 +100,10 @@ class _Progress:
         sys.stderr.flush()
 
 
-def console_summary(res, outdir: str | None = None, top: int = 10) -> str:
-    """Readable text summary of a ScoreResult."""
-    from ..nuclei import BACKBONE
-
-    comp, rk = res.comparison, res.ranking
-    lines = [f"Shifts: {res.shifts.source} ({len(comp)} atoms on {comp.n_residues} residues compared)"]
-    for ens, m in zip(res.ensembles, res.mappings):
-        lines.append(f"  {ens.name}: chain {ens.chain_id}, {ens.n_models} model(s), identity "
-                     f"{m.identity:.2f}, coverage {m.coverage:.2f}")
-    lines.append("")
-    lines.append(f"Referencing offsets (measured - predicted, ppm; --reref {res.parameters['reref']}):")
-    for iso, name in (("C", "13C"), ("N", "15N"), ("H", "1H")):
-        o = res.offsets[iso]
-        if not o.n:
-            lines.append(f"  {name:4s} no atoms")
-            continue
-        extra = ""
-        if o.per_atom:
-            extra = "  [" + ", ".join(f"{k} {v['value']:+.2f}" for k, v in o.per_atom.items()
-                                      if v["value"] is not None) + "]"
-        lines.append(f"  {name:4s} {o.value:+.2f} (95% {o.low:+.2f} to {o.high:+.2f}, n={o.n}) "
-                     f"{'APPLIED' if o.applied else 'not applied'}{extra}")
-    lines.append("")
-    lines.append("Ranking (score: robust RMS of residual/expected error; lower is better):")
-    head = f"  {'rank':>4} {'model':<24} {'score':>6} {'95% interval':>15} {'p_best':>6}  " + \
-        " ".join(f"{x:>5}" for x in BACKBONE)
-    lines.append(head)
-    for n, i in enumerate(rk.order):
-        if n >= 30:
-            lines.append(f"  ... {len(rk.order) - 30} more in ranking.csv")
-            break
-        rms = " ".join(f"{res.metrics[x]['rmsd'][i]:5.2f}" if res.metrics[x]["n"] else "    -"
-                       for x in BACKBONE)
-        mark = "*" if rk.best_group[i] else " "
-        lines.append(f"  {rk.rank[i]:>4}{mark}{comp.entries[i].name[:24]:<24} {rk.score[i]:6.2f} "
-                     f"{rk.low[i]:6.2f} - {rk.high[i]:6.2f} {rk.p_best[i]:6.2f}  {rms}")
-    lines.append("  * = cannot be told apart from the best (beats it in >= 5 % of bootstrap replicates)")
-    lines.append("")
-    every = [(j, k) for j, k in enumerate(res.outliers.klass) if k == "every"]
-    best = int(rk.order[0])
-    fl = np.flatnonzero(res.outliers.flagged[best])
-    lines.append(f"Flags (|residual| > {res.outliers.k:g} x expected error): "
-                 f"{len(every)} atoms in every model, "
-                 f"{int(np.sum(res.outliers.klass == 'some'))} in some models; "
-                 f"{len(fl)} in the best model, largest |z| first"
-                 + (" (measured minus the applied offset)" if any(o.applied for o in res.offsets.values()) else ""))
-    order = sorted(fl, key=lambda j: -abs(res.z[best, j]))[:top]
-    for j in order:
-        meas = comp.predicted[best, j] + res.residual[best, j]   # measured - applied offset
-        lines.append(f"  {comp.seq_id[j]:>5} {comp.comp_id[j]} {comp.atom_id[j]:<5} "
-                     f"measured {meas:8.3f} predicted {comp.predicted[best, j]:8.3f} "
-                     f"z {res.z[best, j]:+6.1f}  ({res.outliers.klass[j]})")
-    warn = [f for f in res.findings if f.severity == "warning"]
-    lines.append("")
-    lines.append(f"Data checks: {len(warn)} warnings, {len(res.findings) - len(warn)} notes")
-    for f in warn[:top]:
-        lines.append(f"  {f.seq_id:>5} {f.comp_id} {f.atom_id}: [{f.rule}] {f.message}")
-    if res.warnings:
-        lines.append(f"Warnings: {len(res.warnings)} (see summary.json)")
-    left = sum(comp.left_out.values())
-    if left:
-        lines.append(f"Left out of the comparison: {left} shifts (see summary.json left_out)")
-    if outdir:
-        lines.append(f"Output: {outdir}")
-    return "\n".join(lines)
-
-
 def run(args) -> int:
-    from ..io.coords import read_models
-    from ..io.shifts import read_shifts
-    from ..report.corrected_star import write_corrected_star
-    from ..report.outdir import check_outdir, staged_outdir
-    from ..report.tables import write_tables
-    from ..score.scoring import score
+    from ..pipeline import score_files
+    from ..report.console import console_summary
+    from ..report.outdir import check_outdir
 
     from ..gates import finish, parse_conditions
 
@@ -187,31 +121,35 @@ def run(args) -> int:
     if args.ph is not None and not 0.0 <= args.ph <= 14.0:
         raise InputError(f"--ph must lie in 0..14, got {args.ph:g}")
     check_outdir(args.outdir, args.force, inputs)        # fail early, before the work
-    shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
-    if args.temperature is not None:
-        shifts.conditions.temperature_K = args.temperature
-    if args.ph is not None:
-        shifts.conditions.pH = args.ph
-    ensembles = read_models(args.models, chain=args.chain)
-    res = score(shifts, ensembles, params=args.params, ring_model=args.ring_model, reref=args.reref,
-                k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
-                include_mean=not args.no_mean, min_identity=args.min_identity,
-                progress=_Progress(args.quiet))
-    with staged_outdir(args.outdir, args.force, inputs) as tmp:
-        write_tables(res, tmp)
-        write_corrected_star(res, tmp)                   # only when an offset was applied
-        if not args.no_report:
-            try:
-                from ..report.pdf import write_report
-            except ModuleNotFoundError as exc:
-                if exc.name != "shiftcheck.report.pdf":
-                    raise
-            else:
-                formats = tuple(f.strip().lower() for f in args.plots.split(",") if f.strip())
-                write_report(tmp, formats=formats, show=tuple(args.show))
-                from ..report.html import write_html
-                write_html(tmp, show=tuple(args.show))
+    res = score_files(args.shifts, args.models, list_id=args.list_id, entity_id=args.entity,
+                      chain=args.chain, temperature=args.temperature, ph=args.ph,
+                      params=args.params, ring_model=args.ring_model, reref=args.reref,
+                      k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
+                      include_mean=not args.no_mean, min_identity=args.min_identity,
+                      progress=_Progress(args.quiet))
+    write_outputs(res, args.outdir, force=args.force, inputs=inputs, report=not args.no_report,
+                  plots=args.plots, show=tuple(args.show))
     as_json = getattr(args, "json", False)
     if not args.quiet and not as_json:
         print(console_summary(res, outdir=args.outdir))
     return finish(args.outdir, gates, as_json=as_json)
+
+
+def write_outputs(res: ScoreResult, outdir: str, *, force: bool, inputs: list, report: bool = True,
+                  plots: str = "png", show: tuple = ()) -> None:
+    """Write the tables, the corrected shift list (when an offset was applied) and the report
+    (PDF/PNG and report.html) of ``res`` into ``outdir`` through a staged directory."""
+    from ..report.corrected_star import write_corrected_star
+    from ..report.outdir import staged_outdir
+    from ..report.tables import write_tables
+
+    with staged_outdir(outdir, force, inputs) as tmp:
+        write_tables(res, tmp)
+        write_corrected_star(res, tmp)                   # only when an offset was applied
+        if report:
+            from ..report.html import write_html
+            from ..report.pdf import write_report
+
+            formats = tuple(f.strip().lower() for f in plots.split(",") if f.strip())
+            write_report(tmp, formats=formats, show=show)
+            write_html(tmp, show=show)

@@ -15,37 +15,21 @@ from __future__ import annotations
 
 import os
 import re
-from typing import Iterable, Sequence
+from typing import Sequence
 
 import numpy as np
 
+from ..chem.names import normalise_comp_id, normalise_residue_atom_names
+from ..chem.residues import AA20, HEAVY_ATOMS
 from ..errors import InputError, ShiftcheckError
-from ..shifts import ONE_TO_THREE
 from ..structure.ensemble import Ensemble
-from ..structure.names import normalise_comp_id, normalise_residue_atom_names
 from ._coord_notes import note_dropped, note_missing
 from .textfile import read_text_file
 
-__all__ = ["read_models", "read_model_file", "stack_compatible", "HEAVY_ATOMS"]
+__all__ = ["read_models", "read_model_file"]
 
-_AA20 = frozenset(ONE_TO_THREE.values())
+_AA20 = frozenset(AA20)
 _WATERS = frozenset({"HOH", "WAT", "DOD", "H2O", "TIP", "TIP3", "SOL"})
-
-#: Heavy atoms of each standard residue (IUPAC names), for the missing-atom report.
-HEAVY_ATOMS: dict[str, tuple[str, ...]] = {
-    "GLY": (), "ALA": ("CB",), "SER": ("CB", "OG"), "CYS": ("CB", "SG"),
-    "VAL": ("CB", "CG1", "CG2"), "THR": ("CB", "OG1", "CG2"), "PRO": ("CB", "CG", "CD"),
-    "LEU": ("CB", "CG", "CD1", "CD2"), "ILE": ("CB", "CG1", "CG2", "CD1"),
-    "MET": ("CB", "CG", "SD", "CE"), "ASP": ("CB", "CG", "OD1", "OD2"),
-    "ASN": ("CB", "CG", "OD1", "ND2"), "GLU": ("CB", "CG", "CD", "OE1", "OE2"),
-    "GLN": ("CB", "CG", "CD", "OE1", "NE2"), "LYS": ("CB", "CG", "CD", "CE", "NZ"),
-    "ARG": ("CB", "CG", "CD", "NE", "CZ", "NH1", "NH2"),
-    "HIS": ("CB", "CG", "ND1", "CD2", "CE1", "NE2"),
-    "PHE": ("CB", "CG", "CD1", "CD2", "CE1", "CE2", "CZ"),
-    "TYR": ("CB", "CG", "CD1", "CD2", "CE1", "CE2", "CZ", "OH"),
-    "TRP": ("CB", "CG", "CD1", "CD2", "NE1", "CE2", "CE3", "CZ2", "CZ3", "CH2"),
-}
-_BACKBONE = ("N", "CA", "C", "O")
 
 
 def read_models(paths: str | os.PathLike | Sequence[str | os.PathLike], chain: str | None = None,
@@ -104,44 +88,6 @@ def read_model_file(path: str | os.PathLike, chain: str | None = None) -> Ensemb
         raise
     except Exception as exc:  # defensive: gemmi objects from odd input
         raise InputError(f"cannot interpret coordinates ({type(exc).__name__}: {exc})", path=path) from None
-
-
-def stack_compatible(ensembles: Iterable[Ensemble]) -> list[Ensemble]:
-    """Merge ensembles with identical topology into one stack each, keeping input order.
-
-    Topology means chain, residue numbers/names/insertion codes, atom names and the
-    ``built`` flags. Useful for thousands of single-model decoy files.
-    """
-    groups: list[list[Ensemble]] = []
-    keys: list[tuple] = []
-    for ens in ensembles:
-        key = (ens.chain_id, ens.res_seq.tobytes(), "|".join(ens.res_icode), "|".join(ens.res_name),
-               ens.atom_res.tobytes(), "|".join(ens.atom_name), ens.built.tobytes())
-        for k, g in zip(keys, groups):
-            if k == key:
-                g.append(ens)
-                break
-        else:
-            keys.append(key)
-            groups.append([ens])
-    out = []
-    for g in groups:
-        if len(g) == 1:
-            out.append(g[0])
-            continue
-        first = g[0]
-        warns = []
-        for e in g:
-            warns.extend(w for w in e.warnings if w not in warns)
-        methods = sorted({e.method for e in g if e.method})
-        out.append(Ensemble(
-            name=f"{first.name} (+{len(g) - 1} more)", sources=[s for e in g for s in e.sources],
-            model_names=[m for e in g for m in e.model_names], chain_id=first.chain_id,
-            res_seq=first.res_seq, res_icode=first.res_icode, res_name=first.res_name,
-            atom_res=first.atom_res, atom_name=first.atom_name, element=first.element,
-            coords=np.concatenate([e.coords for e in g], axis=0), built=first.built,
-            method=" / ".join(methods), warnings=warns))
-    return out
 
 
 # ----------------------------------------------------------------------------- reading text

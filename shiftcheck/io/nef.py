@@ -22,8 +22,8 @@ Atom names (:func:`nef_atom_names`; rules of the NEF specification, quoted from 
 Expansion is matched against the residue's atom names taken from the project's tables
 (backbone + :func:`shiftcheck.structure.builder.sidechain_atoms` heavy atoms,
 :data:`shiftcheck.structure.hydrogens.HYDROGEN_SITES` protons and
-:data:`shiftcheck.structure.names.NH2_GROUPS`); names the tables cannot expand go on to
-:func:`shiftcheck.structure.names.expand_pseudo_atom`, and what is still unknown is kept as
+:data:`shiftcheck.chem.names.NH2_GROUPS`); names the tables cannot expand go on to
+:func:`shiftcheck.chem.names.expand_pseudo_atom`, and what is still unknown is kept as
 written (it is then not scored).
 
 Selection mirrors the NMR-STAR reader: ``list_id`` is the save frame name (with or without the
@@ -40,8 +40,8 @@ from collections import OrderedDict
 from functools import lru_cache
 
 from ..errors import InputError, ShiftcheckError
-from ..shifts import SampleConditions
-from ..structure.names import NH2_GROUPS, expand_pseudo_atom, normalise_comp_id
+from ..shiftlist import SampleConditions
+from ..chem.names import NH2_GROUPS, expand_pseudo_atom, normalise_comp_id
 
 __all__ = ["read_nef", "nef_atom_names", "residue_atom_names", "LIST_PREFIX"]
 
@@ -121,7 +121,7 @@ def _col(loop, tag: str) -> list[str] | None:
 
 def _row_lines(text: str, path: str, frame_name: str, n_rows: int) -> list[int]:
     """File line of each shift row (0 where the second pass cannot tell)."""
-    from .star21 import parse_star_syntax
+    from .star_syntax import parse_star_syntax
 
     try:
         frames = [f for b in parse_star_syntax(text, path) for f in b.frames if f.name == frame_name]
@@ -167,8 +167,8 @@ def read_nef(text: str, path: str, list_id: str | None = None, entity_id: str | 
     entity_id : str, optional
         NEF chain code. Default: the chain with most shifts, with a warning naming the others.
     """
-    from .shifts import build_shift_list, choose
-    from .star import _parse
+    from .shift_rows import build_shift_list, choose
+    from .star3 import _parse
 
     warnings: list[str] = []
     entry = _parse(text, path, warnings)

@@ -18,14 +18,17 @@ residue i) are excluded. Used together with ring currents for protons by Ösapay
 """
 from __future__ import annotations
 
-import json
 from functools import lru_cache
-from importlib import resources
+from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ..datafiles import load_data, values
 from .ringcurrent import point_dipole
 from .rings import pairs_within
+
+if TYPE_CHECKING:
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["anisotropy_parameters", "peptide_frames", "mcconnell_axis_factor", "anisotropy_features"]
 
@@ -33,9 +36,7 @@ __all__ = ["anisotropy_parameters", "peptide_frames", "mcconnell_axis_factor", "
 @lru_cache(maxsize=1)
 def anisotropy_parameters() -> dict:
     """Constants from ``data/anisotropy.json`` (values only)."""
-    with resources.files("shiftcheck.data").joinpath("anisotropy.json").open(encoding="utf-8") as fh:
-        raw = json.load(fh)
-    return {k: v["value"] for k, v in raw.items() if not k.startswith("_")}
+    return {k: v["value"] for k, v in values(load_data("anisotropy.json")).items()}
 
 
 def mcconnell_axis_factor(points: np.ndarray, origin: np.ndarray, axis: np.ndarray) -> np.ndarray:
@@ -47,7 +48,7 @@ def mcconnell_axis_factor(points: np.ndarray, origin: np.ndarray, axis: np.ndarr
     return point_dipole(points, origin, axis)
 
 
-def peptide_frames(ens) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+def peptide_frames(ens: Ensemble) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
     """Origin, x axis (C→O) and z axis (plane normal) of every peptide group, all models.
 
     Returns
@@ -71,7 +72,7 @@ def peptide_frames(ens) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]
     return origin, x, z, r
 
 
-def anisotropy_features(ens, targets: np.ndarray, cutoff: float | None = None) -> dict[str, np.ndarray]:
+def anisotropy_features(ens: Ensemble, targets: np.ndarray, cutoff: float | None = None) -> dict[str, np.ndarray]:
     """McConnell peptide-group features ``co_aniso_x``, ``co_aniso_z`` (n_models, n_targets), Å⁻³.
 
     Targets absent from a model (or index -1) get 0; the caller masks absent targets.

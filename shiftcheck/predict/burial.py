@@ -31,9 +31,14 @@ Units: counts (dimensionless). Constants (radii, switch width) are in
 """
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 
 from .rings import pairs_within
+
+if TYPE_CHECKING:
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["DEFAULT_SETTINGS", "switch", "virtual_cb_direction", "contact_density",
            "half_sphere_exposure", "burial_features"]
@@ -56,7 +61,7 @@ def switch(r: np.ndarray, radius: float, width: float) -> np.ndarray:
     return np.cos(0.5 * np.pi * x) ** 2
 
 
-def virtual_cb_direction(ens) -> np.ndarray:
+def virtual_cb_direction(ens: Ensemble) -> np.ndarray:
     """Unit CA→CB vector of every residue (n_models, n_res, 3); virtual CB where CB is absent."""
     r = np.arange(ens.n_residues)
     n, ca, c, cb = (ens.xyz(r, a) for a in ("N", "CA", "C", "CB"))
@@ -79,7 +84,7 @@ def _target_arrays(ens, targets):
     return targets, tx, t_res
 
 
-def contact_density(ens, targets, radii=(6.0, 8.0, 10.0), width: float = 1.0,
+def contact_density(ens: Ensemble, targets, radii=(6.0, 8.0, 10.0), width: float = 1.0,
                     exclude: int = 1) -> dict[str, np.ndarray]:
     """Smoothed heavy-atom counts around each target atom, one array per radius.
 
@@ -123,7 +128,7 @@ def contact_density(ens, targets, radii=(6.0, 8.0, 10.0), width: float = 1.0,
     return out
 
 
-def half_sphere_exposure(ens, radius: float = 13.0, width: float = 1.0,
+def half_sphere_exposure(ens: Ensemble, radius: float = 13.0, width: float = 1.0,
                          exclude: int = 1) -> dict[str, np.ndarray]:
     """Smoothed HSE-up / HSE-down CA counts per residue (n_models, n_res) (Hamelryck 2005)."""
     r = np.arange(ens.n_residues)
@@ -142,7 +147,7 @@ def half_sphere_exposure(ens, radius: float = 13.0, width: float = 1.0,
                                     minlength=n_models * n_res).reshape(n_models, n_res)}
 
 
-def burial_features(ens, targets, settings: dict | None = None) -> dict[str, np.ndarray]:
+def burial_features(ens: Ensemble, targets, settings: dict | None = None) -> dict[str, np.ndarray]:
     """All burial features of the targets (n_models, n_targets), as selected by ``settings``.
 
     ``settings`` keys (defaults :data:`DEFAULT_SETTINGS`): ``radii``, ``width``, ``hse_radius``,

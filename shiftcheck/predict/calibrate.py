@@ -8,7 +8,7 @@ Procedure
 ---------
 1. For each pair, map the shift list onto the model by sequence alignment, build the features of
    every model and average them over the models (NMR ensembles), and take measured − random coil
-   as the target. Chain-terminus atoms are left out (:func:`shiftcheck.nuclei.at_chain_terminus`).
+   as the target. Chain-terminus atoms are left out (:func:`shiftcheck.chem.nuclei.at_chain_terminus`).
 2. Rows of a shift list share a weight of 1 (a list paired with two structures gives each pair
    weight 1/2), so every protein counts once.
 3. Solve (λ per nucleus class, ``ridge_lambda`` in the settings); estimate one referencing offset per shift list and nucleus class as the median residual,
@@ -20,23 +20,27 @@ Procedure
 """
 from __future__ import annotations
 
-import json
 from dataclasses import dataclass
-from importlib import resources
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ..chem.nuclei import at_chain_terminus, entity_ends
+from ..datafiles import load_data
+from ..defaults import RING_MODELS
 from ..errors import InputError
-from ..nuclei import at_chain_terminus, entity_ends
 from .features import StructureFeatures
 from .params import FORMAT
 from .randomcoil import load_table
 
+if TYPE_CHECKING:
+    from ..shiftlist import ShiftList
+    from ..structure.ensemble import Ensemble
+
 __all__ = ["Pair", "Dataset", "read_pairs_file", "load_settings", "build_dataset", "load_datasets",
            "collect", "ridge_lambda", "ridge_solve", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
 
-RING_MODELS = ("haigh-mallion", "johnson-bovey", "point-dipole")
 PROTON_CLASSES = ("H", "HA", "HMe", "Haro")
 _GROUP_RANK = {"const": 0, "res:": 1, "prev:": 2, "next:": 3, "conf:": 4, "ring:": 5, "hb:": 6, "aniso:": 7,
                "bur:": 8, "hse:": 9}
@@ -65,7 +69,7 @@ class Dataset:
 
 def load_settings() -> dict:
     """Calibration settings from ``shiftcheck/data/calibration.json``."""
-    return json.loads(resources.files("shiftcheck.data").joinpath("calibration.json").read_text())
+    return load_data("calibration.json")
 
 
 def read_pairs_file(path: str, data_dir: str | None = None) -> list[Pair]:
@@ -95,7 +99,7 @@ def read_pairs_file(path: str, data_dir: str | None = None) -> list[Pair]:
     return pairs
 
 
-def build_dataset(shifts, ens, seq_to_res: dict, label: str, group: str, weight: float = 1.0,
+def build_dataset(shifts: ShiftList, ens: Ensemble, seq_to_res: dict, label: str, group: str, weight: float = 1.0,
                   table: dict | None = None) -> Dataset:
     """Match measured shifts to the predictor's target atoms of ``ens``."""
     sf = StructureFeatures.from_ensemble(ens, shifts.conditions, table)
@@ -116,7 +120,7 @@ def build_dataset(shifts, ens, seq_to_res: dict, label: str, group: str, weight:
 def load_datasets(pairs: list[Pair]) -> list[Dataset]:
     """Read, map and featurise every pair with the project's readers."""
     from ..io.coords import read_models
-    from ..io.shifts import read_shifts
+    from ..io.shift_formats import read_shifts
     from ..structure.mapping import map_sequence
 
     table = load_table()

@@ -14,10 +14,8 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["RESIDUE_CLASSES", "LEGACY_NEIGHBOURS", "LEGACY_CHI1", "residue_class", "fourier_1d", "fourier_2d",
+__all__ = ["LEGACY_NEIGHBOURS", "LEGACY_CHI1", "residue_class", "fourier_1d", "fourier_2d",
            "neighbour_block", "conformation_features"]
-
-RESIDUE_CLASSES = ("GLY", "PRO", "BETA", "OTHER")
 
 
 def residue_class(res_name: np.ndarray) -> np.ndarray:

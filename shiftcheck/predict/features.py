@@ -24,21 +24,24 @@ burial         burial          contact density and half-sphere exposure (``bur:8
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..nuclei import AROMATIC_PROTONS, METHYL_PROTONS, nucleus_class
+from ..chem.nuclei import AROMATIC_PROTONS, METHYL_PROTONS, nucleus_class
+from ..chem.residues import AA20
 from ..structure.geometry import backbone_torsions, chi1
 from .conformation import conformation_features
 from .randomcoil import _methyl_key, load_table, random_coil
 
-__all__ = ["GROUP_TERM", "AA20", "HBOND_FEATURES", "Targets", "StructureFeatures", "find_targets"]
+if TYPE_CHECKING:
+    from ..structure.ensemble import Ensemble
+
+__all__ = ["GROUP_TERM", "HBOND_FEATURES", "Targets", "StructureFeatures", "find_targets"]
 
 GROUP_TERM = {"offset": "sequence", "neighbour": "sequence", "conformation": "conformation",
               "ring_current": "ring_current", "hbond": "hbond", "anisotropy": "anisotropy",
               "burial": "burial"}
-AA20 = ("ALA", "ARG", "ASN", "ASP", "CYS", "GLN", "GLU", "GLY", "HIS", "ILE", "LEU", "LYS", "MET",
-        "PHE", "PRO", "SER", "THR", "TRP", "TYR", "VAL")
 #: Hydrogen-bond features used per nucleus class (names from shiftcheck.predict.hbond).
 HBOND_FEATURES = {"H": ("hn_r3", "hn_r3_sc"), "N": ("n_hb",), "HA": ("ha_r3",), "C": ("c_hb",)}
 _BACKBONE_NAMES = ("H", "HA", "HA2", "HA3", "CA", "CB", "C", "N")
@@ -58,8 +61,8 @@ class Targets:
         return int(self.res_index.size)
 
 
-def find_targets(ens) -> Targets:
-    """Every atom of a nucleus class (:func:`shiftcheck.nuclei.nucleus_class`) present in ``ens``."""
+def find_targets(ens: Ensemble) -> Targets:
+    """Every atom of a nucleus class (:func:`shiftcheck.chem.nuclei.nucleus_class`) present in ``ens``."""
     present = ~np.all(np.isnan(ens.coords[..., 0]), axis=0)
     cand = set(_BACKBONE_NAMES)
     for d in (METHYL_PROTONS, AROMATIC_PROTONS):
@@ -108,7 +111,7 @@ class StructureFeatures:
     _burial: dict = field(default_factory=dict)
 
     @classmethod
-    def from_ensemble(cls, ens, conditions=None, table: dict | None = None) -> "StructureFeatures":
+    def from_ensemble(cls, ens: Ensemble, conditions=None, table: dict | None = None) -> "StructureFeatures":
         t = find_targets(ens)
         tors = backbone_torsions(ens)
         tors["chi1"] = chi1(ens)

@@ -18,29 +18,27 @@ fitted elsewhere; signs: t ≥ 0, a larger t means a shorter/straighter bond (ex
 """
 from __future__ import annotations
 
-import json
 from functools import lru_cache
-from importlib import resources
+from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ..datafiles import load_data, values
 from .rings import pairs_within
 
-__all__ = ["hbond_parameters", "hbond_contacts", "hbond_features", "FEATURES", "DONOR_PARENT"]
+if TYPE_CHECKING:
+    from ..structure.ensemble import Ensemble
+
+__all__ = ["hbond_parameters", "hbond_contacts", "hbond_features", "DONOR_PARENT"]
 
 #: Proton -> bonded heavy atom (same residue) for the donors considered.
 DONOR_PARENT = {"H": "N", "HA": "CA", "HA2": "CA", "HA3": "CA"}
-
-#: Feature keys returned by :func:`hbond_features` (fit features; ``hn_dist`` is for reports).
-FEATURES = ("hn_r3", "hn_r3_sc", "hn_hbonded", "ha_r3", "n_hb", "c_hb")
 
 
 @lru_cache(maxsize=1)
 def hbond_parameters() -> dict:
     """Constants of the hydrogen-bond features from ``data/hbond.json`` (values only)."""
-    with resources.files("shiftcheck.data").joinpath("hbond.json").open(encoding="utf-8") as fh:
-        raw = json.load(fh)
-    return {k: v["value"] for k, v in raw.items() if not k.startswith("_")}
+    return {k: v["value"] for k, v in values(load_data("hbond.json")).items()}
 
 
 def _acceptors(ens, table: dict) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -55,7 +53,7 @@ def _acceptors(ens, table: dict) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return idx, np.asarray(ens.atom_res)[idx], is_bb[idx]
 
 
-def hbond_contacts(ens, cutoff: float | None = None) -> dict[str, np.ndarray]:
+def hbond_contacts(ens: Ensemble, cutoff: float | None = None) -> dict[str, np.ndarray]:
     """Every proton···O contact within the cutoff in every model, with its weight and term.
 
     Returns
@@ -94,7 +92,7 @@ def hbond_contacts(ens, cutoff: float | None = None) -> dict[str, np.ndarray]:
             "acceptors": acc, "slot_h": i, "slot_o": j}
 
 
-def hbond_features(ens, targets: np.ndarray, cutoff: float | None = None) -> dict[str, np.ndarray]:
+def hbond_features(ens: Ensemble, targets: np.ndarray, cutoff: float | None = None) -> dict[str, np.ndarray]:
     """Hydrogen-bond features of target atoms in every model.
 
     Parameters

@@ -12,12 +12,17 @@ factors, hydrogen-bond terms, peptide-group anisotropy). The coefficients w come
 """
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 
 from ..errors import ParameterError
 from .features import GROUP_TERM, StructureFeatures
 from .params import load_params
 from .prediction import Prediction
+
+if TYPE_CHECKING:
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["Predictor", "predict", "TERMS"]
 
@@ -52,11 +57,11 @@ class Predictor:
                 f"(available: {', '.join(self.params['coefficients'])})",
                 path=self.params.get("_path"))
 
-    def features(self, ens, conditions=None) -> StructureFeatures:
+    def features(self, ens: Ensemble, conditions=None) -> StructureFeatures:
         """The structural features of ``ens`` (reusable for several predictions)."""
         return StructureFeatures.from_ensemble(ens, conditions, self.params["random_coil"])
 
-    def predict(self, ens, conditions=None, features: StructureFeatures | None = None) -> Prediction:
+    def predict(self, ens: Ensemble, conditions=None, features: StructureFeatures | None = None) -> Prediction:
         """Predicted shifts of all target atoms in all models, with each term separately.
 
         Parameters
@@ -102,6 +107,6 @@ class Predictor:
                           params_source=str(self.params.get("_path", "<dict>")) + f" [{self.ring_model}]")
 
 
-def predict(ens, params=None, ring_model: str | None = None, conditions=None) -> Prediction:
+def predict(ens: Ensemble, params=None, ring_model: str | None = None, conditions=None) -> Prediction:
     """Convenience wrapper: ``Predictor(params, ring_model).predict(ens, conditions)``."""
     return Predictor(params, ring_model).predict(ens, conditions)

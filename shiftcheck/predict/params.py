@@ -4,12 +4,15 @@ A parameter file holds everything the predictor uses: the random-coil table with
 corrections, the feature groups per nucleus class, the fitted coefficients for each ring-current
 model, the default ring model and the expected error per nucleus class. Every number carries a
 source: the ``"source"`` string of the nearest enclosing JSON object
-(see :func:`numeric_sources`).
+(see :func:`numeric_sources`). The random-coil table is stored once, in
+``shiftcheck/data/random_coil.json``: a parameter file refers to it by name
+(``{"table": "random_coil.json"}``), which :func:`load_params` replaces by the table, or carries a
+table of its own inline. :func:`save_params` writes the reference whenever the table is the shipped one.
 
 Layout::
 
     {"format": "shiftcheck-params", "version": "1",
-     "random_coil": {...},                       # as shiftcheck/data/random_coil.json
+     "random_coil": {"table": "random_coil.json", "source": "..."},   # or an inline table
      "default_ring_model": {"value": "haigh-mallion", "source": "..."},
      "ridge_lambda": {"value": 1.0, "source": "..."},
      "groups": {"H": ["offset", ...], ...},
@@ -19,24 +22,43 @@ Layout::
 """
 from __future__ import annotations
 
+import copy
 import json
 import os
 import tempfile
-from importlib import resources
 from pathlib import Path
 
+from ..datafiles import data_path
 from ..errors import ParameterError
 
 __all__ = ["FORMAT", "load_params", "save_params", "validate_params", "numeric_sources",
-           "default_params_path"]
+           "default_params_path", "SHIPPED_RANDOM_COIL"]
 
 FORMAT = "shiftcheck-params"
 _REQUIRED = ("random_coil", "default_ring_model", "groups", "coefficients", "expected_error")
+#: The shipped random-coil table, referred to by this name from parameter files.
+SHIPPED_RANDOM_COIL = "random_coil.json"
+_RC_REFERENCE = {"table": SHIPPED_RANDOM_COIL,
+                 "source": "the shipped random-coil table, shiftcheck/data/random_coil.json (sources there)"}
+
+
+def _resolve_random_coil(params: dict, path: str | None) -> dict:
+    """Replace a reference to the shipped random-coil table by the table itself (a copy)."""
+    rc = params.get("random_coil") if isinstance(params, dict) else None
+    if isinstance(rc, dict) and "table" in rc and "backbone" not in rc:
+        if rc["table"] != SHIPPED_RANDOM_COIL:
+            raise ParameterError(f"malformed parameter file: random_coil refers to unknown table "
+                                 f"{rc['table']!r} (only {SHIPPED_RANDOM_COIL!r} is shipped)", path=path)
+        from .randomcoil import load_table
+
+        params = dict(params)
+        params["random_coil"] = copy.deepcopy(load_table())
+    return params
 
 
 def default_params_path() -> str:
     """Path of the shipped parameter file."""
-    return str(resources.files("shiftcheck.data").joinpath("params_default.json"))
+    return str(data_path("params_default.json"))
 
 
 def numeric_sources(obj, source: str = "", path: str = "") -> list[tuple[str, float, str]]:
@@ -93,7 +115,7 @@ def validate_params(params: dict, path: str | None = None) -> dict:
 def load_params(params=None) -> dict:
     """Parameters from None (shipped defaults), a path, or a dict; validated."""
     if isinstance(params, dict):
-        return validate_params(params, "<dict>")
+        return validate_params(_resolve_random_coil(params, "<dict>"), "<dict>")
     path = default_params_path() if params is None else os.fspath(params)
     try:
         with open(path, encoding="utf-8") as fh:
@@ -104,7 +126,7 @@ def load_params(params=None) -> dict:
         raise ParameterError(f"cannot read parameter file ({exc.__class__.__name__})", path=path) from None
     except json.JSONDecodeError as exc:
         raise ParameterError(f"not valid JSON: {exc.msg}", path=path, line=exc.lineno) from None
-    data = validate_params(data, path)
+    data = validate_params(_resolve_random_coil(data, path), path)
     data.setdefault("_path", path)
     return data
 
@@ -113,7 +135,11 @@ def save_params(params: dict, path: str | os.PathLike) -> None:
     """Write a parameter file atomically (temporary file in the target folder, then rename)."""
     validate_params(params, str(path))
     path = Path(path)
+    from .randomcoil import load_table
+
     clean = {k: v for k, v in params.items() if not k.startswith("_")}
+    if clean["random_coil"] == load_table():            # stored once: refer to the shipped table
+        clean["random_coil"] = dict(_RC_REFERENCE)
     fd, tmp = tempfile.mkstemp(prefix=".params-", suffix=".tmp", dir=path.parent or ".")
     try:
         with os.fdopen(fd, "w", encoding="utf-8") as fh:

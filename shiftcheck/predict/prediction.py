@@ -22,7 +22,7 @@ class Prediction:
     res_seq : np.ndarray of int, shape (n,)
         Author residue number in the model.
     comp_id, atom_id, nucleus : np.ndarray of str, shape (n,)
-        Residue name, IUPAC atom name, scoring class (see :mod:`shiftcheck.nuclei`).
+        Residue name, IUPAC atom name, scoring class (see :mod:`shiftcheck.chem.nuclei`).
     values : np.ndarray of float, shape (n_models, n)
         Predicted shift (ppm): the sum of all terms. NaN where it cannot be predicted.
     terms : dict of str -> np.ndarray (n_models, n)

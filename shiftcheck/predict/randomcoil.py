@@ -16,9 +16,14 @@ from __future__ import annotations
 
 import json
 from functools import lru_cache
-from importlib import resources
+from typing import TYPE_CHECKING
 
 import numpy as np
+
+from ..datafiles import load_data
+
+if TYPE_CHECKING:
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["load_table", "table_value", "random_coil", "temperature_correction", "ph_correction",
            "disulfide_mask", "cis_mask"]
@@ -27,11 +32,9 @@ __all__ = ["load_table", "table_value", "random_coil", "temperature_correction",
 @lru_cache(maxsize=4)
 def _load(path: str | None) -> dict:
     if path is None:
-        text = resources.files("shiftcheck.data").joinpath("random_coil.json").read_text()
-    else:
-        with open(path, encoding="utf-8") as fh:
-            text = fh.read()
-    return json.loads(text)
+        return load_data("random_coil.json")
+    with open(path, encoding="utf-8") as fh:
+        return json.loads(fh.read())
 
 
 def load_table(path: str | None = None) -> dict:
@@ -104,7 +107,7 @@ def ph_correction(table: dict, comp_id: np.ndarray, atom_id: np.ndarray, pH: flo
     return out
 
 
-def disulfide_mask(ens, table: dict) -> np.ndarray:
+def disulfide_mask(ens: Ensemble, table: dict) -> np.ndarray:
     """(n_models, n_res) bool: Cys whose SG lies within the table's distance of another SG."""
     out = np.zeros((ens.n_models, ens.n_residues), bool)
     cys = np.flatnonzero(ens.res_name == "CYS")
@@ -124,7 +127,7 @@ def cis_mask(omega: np.ndarray) -> np.ndarray:
         return np.abs(omega) < 90.0
 
 
-def random_coil(ens, res_index: np.ndarray, atom_id: np.ndarray, nucleus: np.ndarray,
+def random_coil(ens: Ensemble, res_index: np.ndarray, atom_id: np.ndarray, nucleus: np.ndarray,
                 omega: np.ndarray, conditions=None, table: dict | None = None) -> np.ndarray:
     """Random-coil shift of each target atom in each model, (n_models, n) ppm.
 

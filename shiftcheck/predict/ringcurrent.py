@@ -25,24 +25,26 @@ Models and units of G:
 """
 from __future__ import annotations
 
-import json
 from functools import lru_cache
-from importlib import resources
+from typing import TYPE_CHECKING
 
 import numpy as np
+from ..datafiles import load_data
+from ..defaults import RING_MODELS
 from .rings import RING_TYPES, find_rings, ring_frames
+
+if TYPE_CHECKING:
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["RING_MODELS", "JB_LOOP_OFFSET", "ring_current_parameters", "point_dipole", "johnson_bovey", "haigh_mallion",
            "johnson_bovey_loop_field", "ring_factor", "ring_current_factors"]
 
-RING_MODELS = ("haigh-mallion", "johnson-bovey", "point-dipole")
 
 
 @lru_cache(maxsize=1)
 def ring_current_parameters() -> dict:
     """Starting intensities, B constants and the loop offset from ``data/ring_current.json``."""
-    with resources.files("shiftcheck.data").joinpath("ring_current.json").open(encoding="utf-8") as fh:
-        return json.load(fh)
+    return load_data("ring_current.json")
 
 
 #: Loop displacement ±d along the normal for Johnson–Bovey, Å (benzene value from
@@ -156,7 +158,7 @@ def ring_factor(points: np.ndarray, ring_xyz: np.ndarray, model: str = "haigh-ma
     raise ValueError(f"unknown ring-current model {model!r}; choose one of {', '.join(RING_MODELS)}")
 
 
-def ring_current_factors(ens, targets: np.ndarray, model: str = "haigh-mallion",
+def ring_current_factors(ens: Ensemble, targets: np.ndarray, model: str = "haigh-mallion",
                          cutoff: float = 15.0, rings: dict | None = None) -> dict[str, np.ndarray]:
     """Summed ring-current factors per ring type for target atoms in every model.
 

@@ -25,9 +25,13 @@ larger than the structure plus the cutoff.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 from scipy.spatial import cKDTree
+
+if TYPE_CHECKING:
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["RING_ATOMS", "RING_RESIDUE", "RING_TYPES", "RingSet", "find_rings", "ring_frames",
            "pairs_within"]
@@ -105,7 +109,7 @@ def ring_frames(xyz: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return centre, normal, radius
 
 
-def find_rings(ens, ring_types: tuple[str, ...] = RING_TYPES) -> dict[str, RingSet]:
+def find_rings(ens: Ensemble, ring_types: tuple[str, ...] = RING_TYPES) -> dict[str, RingSet]:
     """Locate every aromatic ring of the given types in an ensemble.
 
     Parameters

@@ -15,8 +15,8 @@ from pathlib import Path
 
 import numpy as np
 
+from ..chem.nuclei import nucleus_class
 from ..errors import InputError
-from ..nuclei import nucleus_class
 
 __all__ = ["RankingTable", "ResidueTable", "ReportData", "load_outdir", "RANKING_REQUIRED",
            "RESIDUES_REQUIRED"]

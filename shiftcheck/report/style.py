@@ -45,7 +45,7 @@ ISOTOPE_LABEL: dict[str, str] = {"H": "1H", "C": "13C", "N": "15N"}
 
 NEUTRAL = "#4D4D4D"        # dark grey: ordinary data
 NEUTRAL_LIGHT = "#BBBBBB"  # light grey: context, "before" histograms
-EMPHASIS = "#000000"       # black outlines: flagged atoms
+EMPHASIS = "#000000"       # black outlines: flagged atoms (report.html)
 BEST_GROUP = "#332288"     # Tol indigo: filled markers of the indistinguishable best group
 SEQUENTIAL_CMAP = "Blues"
 NO_DATA_HATCH = "////"

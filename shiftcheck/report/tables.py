@@ -14,11 +14,15 @@ import math
 import os
 import tempfile
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from .. import __version__
-from ..nuclei import ALL_CLASSES, BACKBONE
+from ..chem.nuclei import ALL_CLASSES, BACKBONE
+
+if TYPE_CHECKING:
+    from ..score.scoring import ScoreResult
 
 __all__ = ["write_tables", "summary_dict", "ranking_rows", "residue_rows", "RANKING_COLUMNS",
            "RESIDUE_COLUMNS", "sha256"]
@@ -64,7 +68,7 @@ def _atomic_write(path: Path, text: str) -> None:
         raise
 
 
-def ranking_rows(res) -> list[dict]:
+def ranking_rows(res: ScoreResult) -> list[dict]:
     """One dict per entry, best first, with the ranking.csv columns."""
     rk, comp = res.ranking, res.comparison
     rows = []
@@ -80,7 +84,7 @@ def ranking_rows(res) -> list[dict]:
     return rows
 
 
-def residue_rows(res):
+def residue_rows(res: ScoreResult):
     """Yield one dict per (entry, compared atom) with the residues.csv columns."""
     comp = res.comparison
     corr = res.correction
@@ -164,7 +168,7 @@ def _csv(rows, columns) -> str:
     return buf.getvalue()
 
 
-def summary_dict(res, created: str | None = None) -> dict:
+def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
     """The summary.json content (keys documented in docs/outputs.md)."""
     comp, rk = res.comparison, res.ranking
     shifts = res.shifts
@@ -242,7 +246,7 @@ def _json_default(o):
     raise TypeError(f"not JSON serialisable: {type(o).__name__}")
 
 
-def write_tables(res, outdir: str | os.PathLike) -> list[Path]:
+def write_tables(res: ScoreResult, outdir: str | os.PathLike) -> list[Path]:
     """Write ranking.csv, residues.csv and summary.json into ``outdir`` (atomic per file).
 
     ``outdir`` is created if needed. The command line writes into a staging directory that is

@@ -1,9 +1,9 @@
 """Loads the scorer's constants from shiftcheck/data (each with its source there)."""
 from __future__ import annotations
 
-import json
 from functools import lru_cache
-from importlib import resources
+
+from ..datafiles import load_data
 
 __all__ = ["scoring_constants", "shift_ranges"]
 
@@ -11,10 +11,10 @@ __all__ = ["scoring_constants", "shift_ranges"]
 @lru_cache(maxsize=None)
 def scoring_constants() -> dict:
     """shiftcheck/data/scoring.json."""
-    return json.loads(resources.files("shiftcheck.data").joinpath("scoring.json").read_text())
+    return load_data("scoring.json")
 
 
 @lru_cache(maxsize=None)
 def shift_ranges() -> dict:
     """shiftcheck/data/shift_ranges.json."""
-    return json.loads(resources.files("shiftcheck.data").joinpath("shift_ranges.json").read_text())
+    return load_data("shift_ranges.json")

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..nuclei import ALL_CLASSES
+from ..chem.nuclei import ALL_CLASSES
 
 __all__ = ["huber_q", "per_nucleus_metrics", "combined_score"]
 

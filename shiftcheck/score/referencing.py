@@ -95,7 +95,7 @@ def estimate_offsets(comp, mode: str = "auto", n_boot: int = 1000, seed: int | N
     Parameters
     ----------
     comp : Comparison
-        The common atom set (:func:`shiftcheck.score.common.build_comparison`).
+        The common atom set (:func:`shiftcheck.score.comparison.build_comparison`).
     mode : {'auto', 'off', 'force'}
     n_boot : int
         Bootstrap replicates for the interval.

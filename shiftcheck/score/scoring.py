@@ -1,27 +1,34 @@
-"""Score candidate models against measured shifts: the library entry point of ``shiftcheck score``.
+"""Score predicted shifts against measured shifts (the orchestration is :mod:`shiftcheck.pipeline`).
 
-Pipeline: map the shift list onto every ensemble -> predict every model -> common atom set
-(:mod:`.common`) -> stereo pairs resolved -> referencing offsets (:mod:`.referencing`) ->
+Steps, given the mappings and predictions of every ensemble: common atom set
+(:mod:`.comparison`) -> stereo pairs resolved -> referencing offsets (:mod:`.referencing`) ->
 residuals, normalised residuals z = r / sigma, robust loss -> per-nucleus metrics
 (:mod:`.metrics`) -> paired-bootstrap ranking (:mod:`.ranking`) -> outlier atoms
-(:mod:`.outliers`) -> data checks (:mod:`.sanity`) and secondary structure (:mod:`.secondary`).
+(:mod:`.outliers`) -> data checks (:mod:`.datacheck`) and secondary structure (:mod:`.secondary`).
 """
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ..chem.nuclei import ALL_CLASSES
 from ..errors import InputError
-from ..nuclei import ALL_CLASSES
 from ..records import ScoreTables
 from ._constants import scoring_constants
-from .common import Comparison, build_comparison, resolve_stereo
+from .comparison import Comparison, build_comparison, resolve_stereo
+from .datacheck import Finding, check_against_models, check_shifts
 from .metrics import combined_score, huber_q, per_nucleus_metrics
 from .outliers import Outliers, find_outliers, residue_summary
 from .ranking import Ranking, per_residue_sums, rank_models
 from .referencing import Offset, estimate_offsets, residue_weights
-from .sanity import Finding, check_against_models, check_shifts
+
+if TYPE_CHECKING:
+    from ..predict.prediction import Prediction
+    from ..shiftlist import ShiftList
+    from ..structure.ensemble import Ensemble
+    from ..structure.mapping import Mapping
 
 __all__ = ["ScoreResult", "score", "expected_errors"]
 
@@ -70,7 +77,7 @@ def expected_errors(params: dict | None) -> tuple[dict[str, float], str]:
     """Expected error per nucleus class from the parameter file, else the documented fallback."""
     fb = scoring_constants()["expected_error_fallback"]
     out = {c: float(fb[c]) for c in ALL_CLASSES}
-    src = "fallback: " + fb["_source"]
+    src = "fallback: " + fb["source"]
     ee = (params or {}).get("expected_error") if isinstance(params, dict) else None
     if isinstance(ee, dict):
         vals = ee.get("values", ee)
@@ -89,23 +96,26 @@ def expected_errors(params: dict | None) -> tuple[dict[str, float], str]:
     return out, src
 
 
-def score(shifts, ensembles, mappings=None, predictions=None, *, params=None, ring_model=None,
-          reref: str = "auto", k_sigma: float | None = None, n_boot: int | None = None,
-          seed: int | None = None, include_mean: bool = True, min_identity: float | None = None,
-          progress=None) -> ScoreResult:
-    """Score every model of every ensemble against a shift list.
+def score(shifts: ShiftList, ensembles: list[Ensemble], mappings: list[Mapping],
+          predictions: list[Prediction], *, params=None, ring_model: str | None = None,
+          params_source: str | None = None, reref: str = "auto", k_sigma: float | None = None,
+          n_boot: int | None = None, seed: int | None = None, include_mean: bool = True) -> ScoreResult:
+    """Score predicted shifts of every model of every ensemble against a shift list.
+
+    Mapping and prediction happen before (:mod:`shiftcheck.pipeline` does read -> map -> predict
+    -> score); this function only compares.
 
     Parameters
     ----------
     shifts : ShiftList
     ensembles : list of Ensemble
-    mappings : list of Mapping, optional
-        Default: :func:`shiftcheck.structure.mapping.map_sequence` for each ensemble
-        (raises MappingError for shifts of another protein).
-    predictions : list of Prediction, optional
-        Default: ``Predictor(params, ring_model).predict(ens, shifts.conditions)``.
-    params, ring_model
-        Predictor parameters (path, dict or None for the shipped defaults) and ring model.
+    mappings : list of Mapping
+        One per ensemble (:func:`shiftcheck.structure.mapping.map_sequence`).
+    predictions : list of Prediction
+        One per ensemble (:meth:`shiftcheck.predict.model.Predictor.predict`).
+    params, ring_model, params_source
+        The predictor's parameter dict (for the expected errors; None: the documented fallback),
+        its ring model and a description of the parameter source (default: the predictions').
     reref : {'auto', 'off', 'force'}
         Referencing correction (see :mod:`shiftcheck.score.referencing`).
     k_sigma : float
@@ -114,8 +124,6 @@ def score(shifts, ensembles, mappings=None, predictions=None, *, params=None, ri
         Bootstrap replicates (default 1000) and seed (default in scoring.json).
     include_mean : bool
         Also score each multi-model ensemble's mean prediction as ``name#mean``.
-    progress : callable(done, total), optional
-        Called after each ensemble is predicted.
 
     Returns
     -------
@@ -123,10 +131,8 @@ def score(shifts, ensembles, mappings=None, predictions=None, *, params=None, ri
 
     Raises
     ------
-    MappingError
-        Shifts of another protein.
     InputError
-        No atom is common to the shift list and every model.
+        No model, or no atom is common to the shift list and every model.
     """
     const = scoring_constants()
     k_sigma = const["k_sigma"]["value"] if k_sigma is None else float(k_sigma)
@@ -134,24 +140,10 @@ def score(shifts, ensembles, mappings=None, predictions=None, *, params=None, ri
     seed = const["seed"]["value"] if seed is None else int(seed)
     if not ensembles:
         raise InputError("no models given")
-    if mappings is None:
-        from ..structure.mapping import DEFAULT_MIN_IDENTITY, map_sequence
-
-        thr = DEFAULT_MIN_IDENTITY if min_identity is None else min_identity
-        mappings = [map_sequence(shifts, ens, min_identity=thr) for ens in ensembles]
-    pdict, params_source, used_ring = params if isinstance(params, dict) else None, "", ring_model
-    if predictions is None:
-        from ..predict.model import Predictor
-
-        predictor = Predictor(params, ring_model)
-        pdict, used_ring = predictor.params, predictor.ring_model
-        params_source = _describe_params(pdict.get("_path"))
-        predictions = []
-        for i, ens in enumerate(ensembles):
-            predictions.append(predictor.predict(ens, shifts.conditions))
-            if progress:
-                progress(i + 1, len(ensembles))
-    else:
+    if len(mappings) != len(ensembles) or len(predictions) != len(ensembles):
+        raise ValueError("score() needs one mapping and one prediction per ensemble")
+    pdict, used_ring = (params if isinstance(params, dict) else None), ring_model
+    if params_source is None:
         params_source = predictions[0].params_source if predictions else ""
     sigma_map, sigma_src = expected_errors(pdict)
 
@@ -210,19 +202,3 @@ def _secondary(ensembles, mappings) -> dict[str, dict]:
                          "method": METHOD}
     return out
 
-
-def _describe_params(path) -> str:
-    """'shipped default (params_default.json)' for the packaged file, else the path given."""
-    if path is None:
-        return "<dict>"
-    from importlib import resources
-
-    shipped = resources.files("shiftcheck.data").joinpath("params_default.json")
-    try:
-        from pathlib import Path
-
-        if Path(str(path)).resolve() == Path(str(shipped)).resolve():
-            return "shipped default (shiftcheck/data/params_default.json)"
-    except OSError:
-        pass
-    return str(path)

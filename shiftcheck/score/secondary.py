@@ -14,16 +14,21 @@ Vectorised over models: distance matrices (models, n_res, n_res).
 """
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
 
 from ..structure.geometry import backbone_torsions
+
+if TYPE_CHECKING:
+    from ..structure.ensemble import Ensemble
 
 __all__ = ["assign_secondary", "METHOD"]
 
 METHOD = "phi/psi regions + backbone N...O contacts < 3.5 A (shiftcheck simplified)"
 
 
-def assign_secondary(ens) -> np.ndarray:
+def assign_secondary(ens: Ensemble) -> np.ndarray:
     """Per-model strings of H/E/C: array (n_models,) of str, one character per residue."""
     tor = backbone_torsions(ens)
     phi, psi = tor["phi"], tor["psi"]

@@ -13,12 +13,11 @@ the chain. The builder makes heavy atoms only; protons are added by
 """
 from __future__ import annotations
 
-import json
 from functools import lru_cache
-from importlib import resources
 
 import numpy as np
 
+from ..datafiles import load_data
 from ..errors import InputError
 from .ensemble import Ensemble
 
@@ -31,8 +30,7 @@ BACKBONE_ATOMS = ("N", "CA", "C", "O")
 @lru_cache(maxsize=1)
 def geometry_table() -> dict:
     """The ideal-geometry table (bond lengths, angles, side-chain internal coordinates, rotamers)."""
-    text = resources.files("shiftcheck.data").joinpath("builder_geometry.json").read_text()
-    return json.loads(text)
+    return load_data("builder_geometry.json")
 
 
 def place_atom(a: np.ndarray, b: np.ndarray, c: np.ndarray, bond: float | np.ndarray,

@@ -74,7 +74,7 @@ class Ensemble:
 
     @property
     def one_letter(self) -> str:
-        from ..shifts import THREE_TO_ONE
+        from ..chem.residues import THREE_TO_ONE
 
         return "".join(THREE_TO_ONE.get(str(r), "X") for r in self.res_name)
 

@@ -1,7 +1,12 @@
 """Vectorised geometry: dihedral angles over (models, n) stacks, backbone torsions, neighbour search."""
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
 import numpy as np
+
+if TYPE_CHECKING:
+    from .ensemble import Ensemble
 
 __all__ = ["dihedral", "backbone_torsions", "chi1"]
 
@@ -28,7 +33,7 @@ def dihedral(p0: np.ndarray, p1: np.ndarray, p2: np.ndarray, p3: np.ndarray) -> 
         return np.degrees(np.arctan2(y, x))
 
 
-def backbone_torsions(ens) -> dict[str, np.ndarray]:
+def backbone_torsions(ens: Ensemble) -> dict[str, np.ndarray]:
     """φ, ψ, ω of every residue, arrays of shape (n_models, n_res), degrees, NaN where undefined.
 
     φ(i) = C(i-1)-N(i)-CA(i)-C(i); ψ(i) = N(i)-CA(i)-C(i)-N(i+1); ω(i) = CA(i-1)-C(i-1)-N(i)-CA(i)
@@ -60,7 +65,7 @@ def backbone_torsions(ens) -> dict[str, np.ndarray]:
 _GAMMA = {"SER": "OG", "CYS": "SG", "THR": "OG1", "VAL": "CG1", "ILE": "CG1"}
 
 
-def chi1(ens) -> np.ndarray:
+def chi1(ens: Ensemble) -> np.ndarray:
     """Side-chain χ1 = N-CA-CB-Xγ per residue, (n_models, n_res) degrees, NaN where undefined."""
     r = np.arange(ens.n_residues)
     gname = np.array([_GAMMA.get(str(n), "CG") for n in ens.res_name], dtype=object)

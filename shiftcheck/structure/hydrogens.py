@@ -14,12 +14,11 @@ at once. Hydrogens already present in the model are kept as they are.
 from __future__ import annotations
 
 import dataclasses
-import json
 from functools import lru_cache
-from importlib import resources
 
 import numpy as np
 
+from ..datafiles import load_data
 from .ensemble import Ensemble
 
 __all__ = ["add_hydrogens", "geometry_parameters", "HYDROGEN_SITES"]
@@ -77,8 +76,7 @@ for _tab, _nh in ((_METHINE, 1), (_METHYLENE, 2), (_METHYL, 3), (_AROMATIC, 1), 
 @lru_cache(maxsize=1)
 def geometry_parameters() -> dict:
     """Bond lengths (Å) and angles (degrees) from ``data/hydrogen_geometry.json``."""
-    with resources.files("shiftcheck.data").joinpath("hydrogen_geometry.json").open() as fh:
-        raw = json.load(fh)
+    raw = load_data("hydrogen_geometry.json")
     out = {k: float(v["value"]) for k, v in raw["bond_lengths"].items()}
     out.update({k: float(v["value"]) for k, v in raw["angles"].items()})
     return out

@@ -22,14 +22,14 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..chem.residues import ONE_TO_THREE, THREE_TO_ONE
+from ..defaults import DEFAULT_MIN_IDENTITY
 from ..errors import MappingError
-from ..shifts import ONE_TO_THREE, THREE_TO_ONE, ShiftList
+from ..shiftlist import ShiftList
 from .ensemble import Ensemble
 
 __all__ = ["Mapping", "map_sequence", "DEFAULT_MIN_IDENTITY"]
 
-#: Default identity threshold (see the module docstring).
-DEFAULT_MIN_IDENTITY = 0.9
 
 
 @dataclass

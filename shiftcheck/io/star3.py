@@ -6,7 +6,9 @@ NMR-STAR 3.1 dictionary: ``_Atom_chem_shift.{Seq_ID, Auth_seq_ID, Comp_ID, Atom_
 Val, Val_err, Ambiguity_code, Entity_ID, Entity_assembly_ID}``, ``_Entity_comp_index.{ID,
 Comp_ID}``, ``_Entity.Polymer_seq_one_letter_code``, ``_Sample_condition_variable.{Type, Val,
 Val_units}``. pynmrstar keeps no line numbers, so the file line of each shift row is found by
-a second pass with :func:`shiftcheck.io.star21.parse_star_syntax` (0 where that fails).
+a second pass with :func:`shiftcheck.io.star_syntax.parse_star_syntax` (0 where that fails).
+Loops and save frames are looked up with pynmrstar's accessors (``get_saveframes_by_category``,
+``get_loop``, ``get_tag``).
 """
 from __future__ import annotations
 
@@ -14,8 +16,11 @@ import logging
 import re
 from collections import OrderedDict
 
+from ..chem.residues import THREE_TO_ONE
 from ..errors import InputError, ShiftcheckError
-from ..shifts import SampleConditions, THREE_TO_ONE
+from ..shiftlist import SampleConditions
+from .shift_rows import build_shift_list, choose, conditions_from_rows, one_letter_sequence
+from .star_syntax import parse_star_syntax
 
 __all__ = ["read_star3"]
 
@@ -60,11 +65,19 @@ def _parse(text: str, path: str, warnings: list[str]):
 
 
 def _col(loop, tag: str) -> list[str] | None:
-    low = [t.lower() for t in loop.tags]
-    if tag.lower() not in low:
+    """Values of one tag of a pynmrstar loop as strings, or None if the loop lacks the tag."""
+    try:
+        return [str(v) for v in loop.get_tag(tag)]
+    except KeyError:
         return None
-    k = low.index(tag.lower())
-    return [str(r[k]) for r in loop.data]
+
+
+def _loop(frame, category: str):
+    """The frame's loop of a category, or None."""
+    try:
+        return frame.get_loop(category)
+    except KeyError:
+        return None
 
 
 def _tag(frame, tag: str) -> str | None:
@@ -77,8 +90,6 @@ def _tag(frame, tag: str) -> str | None:
 
 def _row_lines(text: str, path: str, frame_name: str, n_rows: int, k_loop: int) -> list[int]:
     """File line of each row of the k-th shift loop of a save frame (best effort)."""
-    from .star21 import parse_star_syntax
-
     try:
         blocks = parse_star_syntax(text, path)
     except ShiftcheckError:
@@ -94,42 +105,36 @@ def _row_lines(text: str, path: str, frame_name: str, n_rows: int, k_loop: int) 
 
 
 def _conditions(entry, shift_frame) -> SampleConditions:
-    from .shifts import conditions_from_rows
-
-    frames = [f for f in entry.frame_list if str(f.category).lower() == "sample_conditions"]
+    frames = entry.get_saveframes_by_category("sample_conditions")
     label = (_tag(shift_frame, "Sample_condition_list_label") or "").lstrip("$")
     sid = _tag(shift_frame, "Sample_condition_list_ID")
     first = [f for f in frames if f.name == label or (sid and _tag(f, "ID") == sid)]
     for f in first + [f for f in frames if f not in first]:
-        for lp in f.loops:
-            typ = _col(lp, "Type")
-            if typ is None or lp.category.lower() != "_sample_condition_variable":
-                continue
-            val = _col(lp, "Val") or [""] * len(typ)
-            unit = _col(lp, "Val_units") or [""] * len(typ)
-            cond = conditions_from_rows(list(zip(typ, val, unit)))
-            if cond.temperature_K is not None or cond.pH is not None:
-                return cond
+        lp = _loop(f, "_Sample_condition_variable")
+        typ = None if lp is None else _col(lp, "Type")
+        if typ is None:
+            continue
+        val = _col(lp, "Val") or [""] * len(typ)
+        unit = _col(lp, "Val_units") or [""] * len(typ)
+        cond = conditions_from_rows(list(zip(typ, val, unit)))
+        if cond.temperature_K is not None or cond.pH is not None:
+            return cond
     return SampleConditions()
 
 
 def _sequence(entry, entity_id: str) -> list[tuple[str, str]] | None:
-    ents = [f for f in entry.frame_list if str(f.category).lower() == "entity"]
+    ents = entry.get_saveframes_by_category("entity")
     chosen = [f for f in ents if _tag(f, "ID") == entity_id] or ents[:1]
     for f in chosen:
-        for lp in f.loops:
-            if lp.category.lower() == "_entity_comp_index":
-                ids, comps = _col(lp, "ID"), _col(lp, "Comp_ID")
-                if ids and comps:
-                    return list(zip(ids, comps))
-        for lp in f.loops:
-            if lp.category.lower() == "_entity_poly_seq":
-                ids, comps = _col(lp, "Num"), _col(lp, "Mon_ID")
-                if ids and comps:
-                    return list(zip(ids, comps))
-        code = _tag(f, "Polymer_seq_one_letter_code")
-        if code and code not in (".", "?"):
-            return [(str(i + 1), c) for i, c in enumerate("".join(code.split()))]
+        for category, id_tag, comp_tag in (("_Entity_comp_index", "ID", "Comp_ID"),
+                                           ("_Entity_poly_seq", "Num", "Mon_ID")):
+            lp = _loop(f, category)
+            ids, comps = (None, None) if lp is None else (_col(lp, id_tag), _col(lp, comp_tag))
+            if ids and comps:
+                return list(zip(ids, comps))
+        seq = one_letter_sequence(_tag(f, "Polymer_seq_one_letter_code"))
+        if seq:
+            return seq
     return None
 
 
@@ -149,17 +154,10 @@ def read_star3(text: str, path: str, list_id: str | None = None, entity_id: str 
         Entity_ID, Entity_assembly_ID or "assembly:entity". Default: the entity with most
         shifts in the chosen list, with a warning naming the others.
     """
-    from .shifts import build_shift_list, choose
-
     warnings: list[str] = []
     entry = _parse(text, path, warnings)
-    found = []  # (frame, loop, k-th shift loop of the frame)
-    for f in entry.frame_list:
-        k = 0
-        for lp in f.loops:
-            if str(lp.category).lower() == "_atom_chem_shift":
-                found.append((f, lp, k))
-                k += 1
+    # (frame, loop, k-th shift loop of the frame); pynmrstar keeps one loop per category and frame
+    found = [(f, lp, 0) for f in entry.frame_list if (lp := _loop(f, "_Atom_chem_shift")) is not None]
     if not found:
         raise InputError("no assigned chemical shift loop found (no _Atom_chem_shift loop)", path=path)
 

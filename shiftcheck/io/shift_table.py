@@ -25,8 +25,10 @@ from __future__ import annotations
 
 import re
 
+from ..chem.residues import ONE_TO_THREE
 from ..errors import InputError
-from ..shifts import ONE_TO_THREE, SampleConditions
+from ..shiftlist import SampleConditions
+from .shift_rows import build_shift_list
 
 __all__ = ["read_table", "TABLE_COLUMNS"]
 
@@ -77,8 +79,11 @@ def _is_number(s: str) -> bool:
         return False
 
 
-def read_table(text: str, path: str):
+def read_table(text: str, path: str, list_id: str | None = None, entity_id: str | None = None):
     """Read a plain shift table (see module docstring for the format) into a ShiftList.
+
+    ``list_id`` and ``entity_id`` are accepted for the common reader signature and ignored (a
+    table holds one list of one entity).
 
     Raises
     ------
@@ -86,8 +91,6 @@ def read_table(text: str, path: str):
         No data rows, a header without the needed columns, a row with too few columns,
         an unknown residue code, a non-integer residue number or a non-numeric shift.
     """
-    from .shifts import build_shift_list
-
     cols: dict[str, int] = {k: i for i, k in enumerate(TABLE_COLUMNS)}
     header_seen = False
     data: dict[str, list[str]] = {k: [] for k in TABLE_COLUMNS}

@@ -18,11 +18,18 @@ Rules (tables and sources in shiftcheck/data/shift_ranges.json):
 from __future__ import annotations
 
 from dataclasses import asdict, dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..nuclei import entity_ends, nucleus_class
+from ..chem.nuclei import entity_ends, nucleus_class
 from ._constants import shift_ranges
+
+if TYPE_CHECKING:
+    from collections.abc import Sequence
+    from ..shiftlist import ShiftList
+    from ..structure.ensemble import Ensemble
+    from ..structure.mapping import Mapping
 
 __all__ = ["Finding", "check_shifts", "check_against_models"]
 
@@ -46,13 +53,13 @@ class Finding:
 
 def _srcs() -> dict:
     t = shift_ranges()
-    return {"range": t["ranges"]["_source"], "placeholder": t["placeholders"]["source"],
-            "duplicate": "common practice, no source", "ca_cb_swap": t["random_coil_ca_cb"]["_source"]
+    return {"range": t["ranges"]["source"], "placeholder": t["placeholders"]["source"],
+            "duplicate": "common practice, no source", "ca_cb_swap": t["random_coil_ca_cb"]["source"]
             + "; " + t["ca_cb_swap_margin"]["source"], "cis_pro": t["pro_cb_cg"]["source"],
             "cys_redox": t["cys_cb"]["source"]}
 
 
-def check_shifts(shifts) -> list[Finding]:
+def check_shifts(shifts: ShiftList) -> list[Finding]:
     """Run the structure-free checks on a ShiftList; findings ordered by Seq_ID."""
     t = shift_ranges()
     src = _srcs()
@@ -122,7 +129,7 @@ def check_shifts(shifts) -> list[Finding]:
     return out
 
 
-def check_against_models(findings: list[Finding], ensembles, mappings) -> list[Finding]:
+def check_against_models(findings: list[Finding], ensembles: Sequence[Ensemble], mappings: Sequence[Mapping]) -> list[Finding]:
     """Compare cis-Pro and Cys-redox notes with the models; returns the updated list.
 
     A cis/trans note becomes a warning when the models' omega (the peptide bond before the Pro:

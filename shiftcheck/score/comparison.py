@@ -1,7 +1,7 @@
 """The common atom set: the (residue, atom) pairs every scored model is compared on.
 
 A shift enters the comparison only when it is measured, belongs to a scored nucleus class
-(:func:`shiftcheck.nuclei.nucleus_class`), its residue maps onto every ensemble with the same
+(:func:`shiftcheck.chem.nuclei.nucleus_class`), its residue maps onto every ensemble with the same
 residue type, and every model of every ensemble predicts it (non-NaN). Everything else is counted
 per reason in :attr:`Comparison.left_out`.
 
@@ -24,16 +24,24 @@ residue of the entity sequence and C of the last are left out ("chain terminus")
 sequence, not the model, defines the ends: a model that lacks a disordered tail has no real
 terminus where its coordinates stop; but a model that continues past the end of the entity
 sequence shows that the listed sequence is only part of the construct, and then there is no
-terminus to leave out (:func:`shiftcheck.nuclei.entity_ends`).
+terminus to leave out (:func:`shiftcheck.chem.nuclei.entity_ends`).
 """
 from __future__ import annotations
 
 from collections import Counter
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 
-from ..nuclei import METHYL_PROTONS, at_chain_terminus, entity_ends, nucleus_class
+from ..chem.nuclei import METHYL_PROTONS, at_chain_terminus, entity_ends, nucleus_class
+
+if TYPE_CHECKING:
+    from collections.abc import Sequence
+    from ..predict.prediction import Prediction
+    from ..shiftlist import ShiftList
+    from ..structure.ensemble import Ensemble
+    from ..structure.mapping import Mapping
 
 __all__ = ["Comparison", "Entry", "build_comparison", "resolve_stereo", "group_name", "STEREO_PAIRS"]
 
@@ -137,7 +145,7 @@ def _is_placeholder(v: np.ndarray, placeholders) -> np.ndarray:
     return bad
 
 
-def build_comparison(shifts, ensembles, mappings, predictions, placeholders=(0.0, 999.0, -999.0),
+def build_comparison(shifts: ShiftList, ensembles: Sequence[Ensemble], mappings: Sequence[Mapping], predictions: Sequence[Prediction], placeholders=(0.0, 999.0, -999.0),
                      include_mean: bool = True) -> Comparison:
     """Assemble the common atom set of all models of all ensembles.
 

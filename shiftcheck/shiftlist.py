@@ -10,17 +10,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .chem.residues import THREE_TO_ONE
 from .records import ShiftTables
 
 __all__ = ["ShiftList", "SampleConditions"]
-
-THREE_TO_ONE = {
-    "ALA": "A", "ARG": "R", "ASN": "N", "ASP": "D", "CYS": "C", "GLN": "Q", "GLU": "E",
-    "GLY": "G", "HIS": "H", "ILE": "I", "LEU": "L", "LYS": "K", "MET": "M", "PHE": "F",
-    "PRO": "P", "SER": "S", "THR": "T", "TRP": "W", "TYR": "Y", "VAL": "V", "MSE": "M",
-}
-ONE_TO_THREE = {v: k for k, v in THREE_TO_ONE.items() if k != "MSE"}
-
 
 @dataclass
 class SampleConditions:

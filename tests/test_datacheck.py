@@ -3,8 +3,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from shiftcheck.score.sanity import check_against_models, check_shifts
-from shiftcheck.shifts import ShiftList
+from shiftcheck.score.datacheck import check_against_models, check_shifts
+from shiftcheck.shiftlist import ShiftList
 
 
 def _list(rows):

@@ -5,7 +5,14 @@ side-chain classes group methyl protons and aromatic ring protons.
 """
 from __future__ import annotations
 
-__all__ = ["BACKBONE", "SIDECHAIN", "ALL_CLASSES", "nucleus_class", "isotope_of", "METHYL_PROTONS",
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:
+    from collections.abc import Sequence
+    from ..shiftlist import ShiftList
+    from ..structure.ensemble import Ensemble
+
+__all__ = ["BACKBONE", "SIDECHAIN", "ALL_CLASSES", "nucleus_class", "METHYL_PROTONS",
            "AROMATIC_PROTONS"]
 
 BACKBONE: tuple[str, ...] = ("H", "HA", "CA", "CB", "C", "N")
@@ -50,11 +57,6 @@ def nucleus_class(comp_id: str, atom_id: str) -> str | None:
     return None
 
 
-def isotope_of(atom_id: str) -> str:
-    """'H', 'C', 'N', 'O' or 'S' from the first letter of an IUPAC atom name."""
-    return atom_id[:1].upper()
-
-
 #: Atoms whose shifts the charged chain ends move by several ppm (free amine of the first residue,
 #: carboxylate of the last). The predictor has no term for them (its random-coil table is measured
 #: inside peptides), so calibration and scoring leave them out. Common practice, no single source.
@@ -62,7 +64,7 @@ N_TERMINAL_ATOMS: tuple[str, ...] = ("N", "H", "C")
 C_TERMINAL_ATOMS: tuple[str, ...] = ("C",)
 
 
-def entity_ends(shifts, ensembles=(), seq_to_res=()) -> tuple[int | None, int | None]:
+def entity_ends(shifts: ShiftList, ensembles: Sequence[Ensemble] = (), seq_to_res=()) -> tuple[int | None, int | None]:
     """Seq_IDs of the residues at the charged chain ends, or None where there is no end.
 
     The ends are the first and last Seq_ID of the entity sequence of ``shifts`` (of its shifts if

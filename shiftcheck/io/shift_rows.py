@@ -1,106 +1,37 @@
-"""Read an assigned chemical-shift list from any supported file: :func:`read_shifts`.
+"""Raw shift rows -> :class:`~shiftcheck.shiftlist.ShiftList`: the part every shift reader shares.
 
-Formats, told apart by content (not by file name):
-
-* NMR-STAR 3.x (tags ``_Atom_chem_shift.*``) - :mod:`shiftcheck.io.star` (pynmrstar);
-* NMR-STAR 2.1 (``_Chem_shift_value``, ``_Saveframe_category``) - :mod:`shiftcheck.io.star21`;
-* NEF (``_nef_chemical_shift.*``) - :mod:`shiftcheck.io.nef` (pynmrstar);
-* plain tables (seq_id, residue, atom, shift [, error]) - :mod:`shiftcheck.io.tables`.
-
-Plain or gzip-compressed. Whatever the format, the rows go through
-:func:`build_shift_list`, which normalises names (IUPAC 1998, Markley et al. 1998, Pure Appl.
-Chem. 70:117), expands pseudo atoms, skips placeholder values ('.', '?') with a warning and
-refuses non-numeric values and values outside -10..300 ppm (no protein 1H, 13C or 15N shift lies
-outside; common practice, no source) with the file line.
+Whatever the format, a reader hands its string columns to :func:`build_shift_list`, which
+normalises names (IUPAC 1998, Markley et al. 1998, Pure Appl. Chem. 70:117), expands pseudo
+atoms, skips placeholder values ('.', '?') with a warning and refuses non-numeric values and
+values outside -10..300 ppm (no protein 1H, 13C or 15N shift lies outside; common practice, no
+source) with the file line. :func:`choose` picks one of several lists or entities and
+:func:`conditions_from_rows` reads temperature and pH.
 """
 from __future__ import annotations
 
 import math
-import os
 from collections import defaultdict
 
 import numpy as np
 
+from ..chem.names import expand_residue_atom_names, normalise_comp_id
+from ..chem.residues import ONE_TO_THREE
 from ..errors import InputError
-from ..shifts import ONE_TO_THREE, SampleConditions, ShiftList
-from ..structure.names import expand_residue_atom_names, normalise_comp_id
-from .textfile import read_text_file
+from ..shiftlist import SampleConditions, ShiftList
 
-__all__ = ["read_shifts", "read_text", "detect_format", "build_shift_list", "choose",
-           "conditions_from_rows", "VALUE_RANGE_PPM"]
+__all__ = ["build_shift_list", "choose", "conditions_from_rows", "one_letter_sequence", "VALUE_RANGE_PPM"]
 
 #: Plausible numeric window for any protein shift, ppm (common practice, no source).
 VALUE_RANGE_PPM = (-10.0, 300.0)
 _MISSING = {"", ".", "?", "-", "na", "n/a", "nan", "none"}
 
 
-def read_shifts(path: str | os.PathLike, list_id: str | None = None,
-                entity_id: str | None = None) -> ShiftList:
-    """Read one assigned chemical-shift list.
-
-    Parameters
-    ----------
-    path : path-like
-        NMR-STAR 3.x, NMR-STAR 2.1, NEF or plain table; ``.gz`` (or gzip content) accepted.
-    list_id : str, optional
-        Which assigned shift list (ID or save frame name; NEF: save frame name). Default:
-        the only one, else the largest, with a warning naming the others.
-    entity_id : str, optional
-        Which entity (Entity_ID, Entity_assembly_ID, 2.1 component name, or NEF chain
-        code). Default: the entity with most shifts, with a warning.
-
-    Returns
-    -------
-    ShiftList
-
-    Raises
-    ------
-    InputError
-        Missing, unreadable, binary or empty file; no shift loop; bad values (one line, with
-        path and line where known).
-    """
-    p = str(path)
-    text = read_text(p)
-    fmt = detect_format(text)
-    try:
-        if fmt == "star3":
-            from .star import read_star3
-            return read_star3(text, p, list_id=list_id, entity_id=entity_id)
-        if fmt == "nef":
-            from .nef import read_nef
-            return read_nef(text, p, list_id=list_id, entity_id=entity_id)
-        if fmt == "star21":
-            from .star21 import read_star21
-            return read_star21(text, p, list_id=list_id, entity_id=entity_id)
-        if fmt == "star-noshifts":
-            raise InputError("no assigned chemical shift loop found (STAR file without "
-                             "_Atom_chem_shift or _Chem_shift_value tags)", path=p)
-        from .tables import read_table
-        return read_table(text, p)
-    except RecursionError:  # pragma: no cover - pathological nesting
-        raise InputError("file structure too deeply nested to read", path=p) from None
-
-
-def read_text(path: str) -> str:
-    """File contents as text; gzip is unpacked; refuses missing, empty and binary files."""
-    return read_text_file(path, "shift file (NMR-STAR or table)")
-
-
-def detect_format(text: str) -> str:
-    """'star3', 'star21', 'nef', 'star-noshifts' or 'table', from the content."""
-    low = text.lower()
-    if "_atom_chem_shift." in low:
-        return "star3"
-    if "_chem_shift_value" in low:
-        return "star21"
-    if "_nef_chemical_shift." in low:
-        return "nef"
-    stripped = [ln.strip().lower() for ln in text.splitlines()[:2000] if ln.strip()
-                and not ln.lstrip().startswith("#")]
-    if any(s.startswith(("data_", "save_", "loop_", "_")) for s in stripped[:50]) or \
-            "_saveframe_category" in low:
-        return "star-noshifts"
-    return "table"
+def one_letter_sequence(code: str | None) -> list[tuple[str, str]] | None:
+    """[(seq_id, one-letter code)] numbered from 1 from a one-letter sequence string (whitespace
+    ignored), or None for a missing value ('.', '?', empty)."""
+    if not code or code in (".", "?"):
+        return None
+    return [(str(i + 1), c) for i, c in enumerate("".join(code.split()))]
 
 
 def conditions_from_rows(rows) -> SampleConditions:

@@ -1,0 +1,162 @@
+"""The whole job in one place: read -> map -> predict -> score, organised per model batch.
+
+Stages and the data passed between them (see docs/architecture.md)::
+
+    read_shifts, read_models -> ShiftList, [Ensemble]
+    model_batches             -> Batch (a few ensembles with their positions)
+    predict_batch (per batch) -> BatchResult (Mapping and Prediction per ensemble)
+    reduce_batches            -> [Mapping], [Prediction] in input order
+    score                     -> ScoreResult
+
+:func:`predict_batch` is pure (no I/O, no globals written) and takes and returns picklable
+objects, so a caller may hand the batches to ``multiprocessing`` or stream them: pass any
+``map``-like callable as ``mapper`` to :func:`predict_all`.
+"""
+from __future__ import annotations
+
+from collections.abc import Callable, Iterable, Iterator
+from dataclasses import dataclass
+
+from .defaults import DEFAULT_MIN_IDENTITY
+from .errors import InputError
+from .predict.model import Predictor
+from .predict.prediction import Prediction
+from .score.scoring import ScoreResult, score
+from .shiftlist import ShiftList
+from .structure.ensemble import Ensemble
+from .structure.mapping import Mapping, map_sequence
+
+__all__ = ["Batch", "BatchResult", "model_batches", "predict_batch", "reduce_batches", "predict_all",
+           "score_models", "score_files", "describe_params"]
+
+
+@dataclass(frozen=True)
+class Batch:
+    """A few ensembles to map and predict together: ``index[k]`` is the input position of ``ensembles[k]``."""
+
+    index: tuple[int, ...]
+    ensembles: tuple[Ensemble, ...]
+
+
+@dataclass(frozen=True)
+class BatchResult:
+    """Mapping and prediction of every ensemble of a :class:`Batch`, in the batch's order."""
+
+    index: tuple[int, ...]
+    mappings: tuple[Mapping, ...]
+    predictions: tuple[Prediction, ...]
+
+
+def model_batches(ensembles: Iterable[Ensemble], size: int = 1) -> Iterator[Batch]:
+    """Group ensembles into batches of ``size`` (the last may be smaller), keeping input order."""
+    if size < 1:
+        raise ValueError("batch size must be at least 1")
+    index: list[int] = []
+    group: list[Ensemble] = []
+    for i, ens in enumerate(ensembles):
+        index.append(i)
+        group.append(ens)
+        if len(group) == size:
+            yield Batch(tuple(index), tuple(group))
+            index, group = [], []
+    if group:
+        yield Batch(tuple(index), tuple(group))
+
+
+def predict_batch(shifts: ShiftList, batch: Batch, predictor: Predictor,
+                  min_identity: float = DEFAULT_MIN_IDENTITY) -> BatchResult:
+    """Map the shift list onto every ensemble of ``batch``, then predict every model.
+
+    Pure and picklable: the worker of :func:`predict_all`. Raises MappingError for shifts of
+    another protein (all ensembles of the batch are mapped before any is predicted).
+    """
+    mappings = tuple(map_sequence(shifts, ens, min_identity=min_identity) for ens in batch.ensembles)
+    preds = tuple(predictor.predict(ens, shifts.conditions) for ens in batch.ensembles)
+    return BatchResult(batch.index, mappings, preds)
+
+
+def reduce_batches(results: Iterable[BatchResult], n: int,
+                   progress: Callable[[int, int], None] | None = None) -> tuple[list[Mapping], list[Prediction]]:
+    """Collect batch results (in any order) into mapping and prediction lists in input order.
+
+    ``progress(done, n)`` is called after every ensemble collected.
+    """
+    mappings: list = [None] * n
+    preds: list = [None] * n
+    done = 0
+    for r in results:
+        for i, m, p in zip(r.index, r.mappings, r.predictions):
+            mappings[i], preds[i] = m, p
+            done += 1
+            if progress:
+                progress(done, n)
+    if done != n:
+        raise RuntimeError(f"{n - done} of {n} ensembles missing from the batch results")
+    return mappings, preds
+
+
+def predict_all(shifts: ShiftList, ensembles: list[Ensemble], predictor: Predictor, *,
+                min_identity: float | None = None, batch_size: int = 1, mapper: Callable = map,
+                progress: Callable[[int, int], None] | None = None) -> tuple[list[Mapping], list[Prediction]]:
+    """Map and predict every ensemble: batches -> ``mapper(worker, batches)`` -> reduce."""
+    thr = DEFAULT_MIN_IDENTITY if min_identity is None else min_identity
+    batches = list(model_batches(ensembles, batch_size))
+    results = mapper(predict_batch, [shifts] * len(batches), batches, [predictor] * len(batches),
+                     [thr] * len(batches))
+    return reduce_batches(results, len(ensembles), progress)
+
+
+def score_models(shifts: ShiftList, ensembles: list[Ensemble], *, params=None, ring_model: str | None = None,
+                 min_identity: float | None = None, reref: str = "auto", k_sigma: float | None = None,
+                 n_boot: int | None = None, seed: int | None = None, include_mean: bool = True,
+                 batch_size: int = 1, mapper: Callable = map,
+                 progress: Callable[[int, int], None] | None = None) -> ScoreResult:
+    """Map, predict and score every model of every ensemble against a shift list.
+
+    ``params`` (path, dict or None for the shipped defaults) and ``ring_model`` choose the
+    predictor; the remaining options are those of :func:`shiftcheck.score.scoring.score`.
+    Raises MappingError (shifts of another protein) and InputError (no model, no common atom).
+    """
+    if not ensembles:
+        raise InputError("no models given")
+    predictor = Predictor(params, ring_model)
+    mappings, preds = predict_all(shifts, ensembles, predictor, min_identity=min_identity,
+                                  batch_size=batch_size, mapper=mapper, progress=progress)
+    return score(shifts, ensembles, mappings, preds, params=predictor.params,
+                 ring_model=predictor.ring_model, params_source=describe_params(predictor.params.get("_path")),
+                 reref=reref, k_sigma=k_sigma, n_boot=n_boot, seed=seed, include_mean=include_mean)
+
+
+def score_files(shift_path, model_paths, *, list_id=None, entity_id=None, chain: str | None = None,
+                temperature: float | None = None, ph: float | None = None, **options) -> ScoreResult:
+    """Read a shift file and coordinate files, then :func:`score_models` (same keyword options).
+
+    ``temperature`` (K) and ``ph`` replace the sample conditions read from the shift file (NEF
+    files carry none)."""
+    from .io.coords import read_models
+    from .io.shift_formats import read_shifts
+
+    shifts = read_shifts(shift_path, list_id=list_id, entity_id=entity_id)
+    if temperature is not None:
+        shifts.conditions.temperature_K = temperature
+    if ph is not None:
+        shifts.conditions.pH = ph
+    ensembles = read_models(model_paths, chain=chain)
+    return score_models(shifts, ensembles, **options)
+
+
+def describe_params(path) -> str:
+    """'shipped default (params_default.json)' for the packaged file, else the path given."""
+    if path is None:
+        return "<dict>"
+    from pathlib import Path
+
+    from .predict.params import default_params_path
+
+    shipped = default_params_path()
+    try:
+        if Path(str(path)).resolve() == Path(str(shipped)).resolve():
+            return "shipped default (shiftcheck/data/params_default.json)"
+    except OSError:
+        pass
+    return str(path)

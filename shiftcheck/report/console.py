@@ -1,0 +1,78 @@
+"""The console summary of a scoring run: a few readable lines printed by ``shiftcheck score``."""
+from __future__ import annotations
+
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from ..chem.nuclei import BACKBONE
+
+if TYPE_CHECKING:
+    from ..score.scoring import ScoreResult
+
+__all__ = ["console_summary"]
+
+
+def console_summary(res: ScoreResult, outdir: str | None = None, top: int = 10) -> str:
+    """Readable text summary of a ScoreResult."""
+    comp, rk = res.comparison, res.ranking
+    lines = [f"Shifts: {res.shifts.source} ({len(comp)} atoms on {comp.n_residues} residues compared)"]
+    for ens, m in zip(res.ensembles, res.mappings):
+        lines.append(f"  {ens.name}: chain {ens.chain_id}, {ens.n_models} model(s), identity "
+                     f"{m.identity:.2f}, coverage {m.coverage:.2f}")
+    lines.append("")
+    lines.append(f"Referencing offsets (measured - predicted, ppm; --reref {res.parameters['reref']}):")
+    for iso, name in (("C", "13C"), ("N", "15N"), ("H", "1H")):
+        o = res.offsets[iso]
+        if not o.n:
+            lines.append(f"  {name:4s} no atoms")
+            continue
+        extra = ""
+        if o.per_atom:
+            extra = "  [" + ", ".join(f"{k} {v['value']:+.2f}" for k, v in o.per_atom.items()
+                                      if v["value"] is not None) + "]"
+        lines.append(f"  {name:4s} {o.value:+.2f} (95% {o.low:+.2f} to {o.high:+.2f}, n={o.n}) "
+                     f"{'APPLIED' if o.applied else 'not applied'}{extra}")
+    lines.append("")
+    lines.append("Ranking (score: robust RMS of residual/expected error; lower is better):")
+    head = f"  {'rank':>4} {'model':<24} {'score':>6} {'95% interval':>15} {'p_best':>6}  " + \
+        " ".join(f"{x:>5}" for x in BACKBONE)
+    lines.append(head)
+    for n, i in enumerate(rk.order):
+        if n >= 30:
+            lines.append(f"  ... {len(rk.order) - 30} more in ranking.csv")
+            break
+        rms = " ".join(f"{res.metrics[x]['rmsd'][i]:5.2f}" if res.metrics[x]["n"] else "    -"
+                       for x in BACKBONE)
+        mark = "*" if rk.best_group[i] else " "
+        lines.append(f"  {rk.rank[i]:>4}{mark}{comp.entries[i].name[:24]:<24} {rk.score[i]:6.2f} "
+                     f"{rk.low[i]:6.2f} - {rk.high[i]:6.2f} {rk.p_best[i]:6.2f}  {rms}")
+    lines.append("  * = cannot be told apart from the best (beats it in >= 5 % of bootstrap replicates)")
+    lines.append("")
+    every = [(j, k) for j, k in enumerate(res.outliers.klass) if k == "every"]
+    best = int(rk.order[0])
+    fl = np.flatnonzero(res.outliers.flagged[best])
+    lines.append(f"Flags (|residual| > {res.outliers.k:g} x expected error): "
+                 f"{len(every)} atoms in every model, "
+                 f"{int(np.sum(res.outliers.klass == 'some'))} in some models; "
+                 f"{len(fl)} in the best model, largest |z| first"
+                 + (" (measured minus the applied offset)" if any(o.applied for o in res.offsets.values()) else ""))
+    order = sorted(fl, key=lambda j: -abs(res.z[best, j]))[:top]
+    for j in order:
+        meas = comp.predicted[best, j] + res.residual[best, j]   # measured - applied offset
+        lines.append(f"  {comp.seq_id[j]:>5} {comp.comp_id[j]} {comp.atom_id[j]:<5} "
+                     f"measured {meas:8.3f} predicted {comp.predicted[best, j]:8.3f} "
+                     f"z {res.z[best, j]:+6.1f}  ({res.outliers.klass[j]})")
+    warn = [f for f in res.findings if f.severity == "warning"]
+    lines.append("")
+    lines.append(f"Data checks: {len(warn)} warnings, {len(res.findings) - len(warn)} notes")
+    for f in warn[:top]:
+        lines.append(f"  {f.seq_id:>5} {f.comp_id} {f.atom_id}: [{f.rule}] {f.message}")
+    if res.warnings:
+        lines.append(f"Warnings: {len(res.warnings)} (see summary.json)")
+    left = sum(comp.left_out.values())
+    if left:
+        lines.append(f"Left out of the comparison: {left} shifts (see summary.json left_out)")
+    if outdir:
+        lines.append(f"Output: {outdir}")
+    return "\n".join(lines)
