@@ -61,13 +61,15 @@ def read_shifts(path: str | os.PathLike, list_id: str | None = None,
     p = str(path)
     text = read_text(p)
     fmt = detect_format(text)
+    from .star_fragments import normalise_star_text
+    text, notes = normalise_star_text(text, fmt)     # bare save frames, fragments, preambles
     try:
         if fmt == "star3":
             from .star import read_star3
-            return read_star3(text, p, list_id=list_id, entity_id=entity_id)
+            return _noted(read_star3(text, p, list_id=list_id, entity_id=entity_id), notes)
         if fmt == "star21":
             from .star21 import read_star21
-            return read_star21(text, p, list_id=list_id, entity_id=entity_id)
+            return _noted(read_star21(text, p, list_id=list_id, entity_id=entity_id), notes)
         if fmt == "star-noshifts":
             raise InputError("no assigned chemical shift loop found (STAR file without "
                              "_Atom_chem_shift or _Chem_shift_value tags)", path=p)
@@ -75,6 +77,11 @@ def read_shifts(path: str | os.PathLike, list_id: str | None = None,
         return read_table(text, p)
     except RecursionError:  # pragma: no cover - pathological nesting
         raise InputError("file structure too deeply nested to read", path=p) from None
+
+
+def _noted(shifts: ShiftList, notes: list[str]) -> ShiftList:
+    shifts.warnings[:0] = notes
+    return shifts
 
 
 def read_text(path: str) -> str:
