@@ -55,6 +55,9 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--no-mean", action="store_true",
                    help="do not score the ensemble-mean prediction (name#mean)")
     p.add_argument("--force", action="store_true", help="write into a non-empty OUTDIR")
+    p.add_argument("--strict", action="store_true",
+                   help="stop with an error at the first model that would be skipped "
+                        "(unreadable, no protein chain, another sequence) instead of going on")
     p.add_argument("--quiet", action="store_true", help="no console summary, no progress bar")
     p.add_argument("--no-report", action="store_true", help="skip the PDF/PNG report")
     p.add_argument("--plots", metavar="FORMATS", default="png",
@@ -143,14 +146,20 @@ def console_summary(res, outdir: str | None = None, top: int = 10) -> str:
     left = sum(comp.left_out.values())
     if left:
         lines.append(f"Left out of the comparison: {left} shifts (see summary.json left_out)")
+    skipped = getattr(res, "skipped", [])
+    if skipped:
+        lines.append(f"Skipped models: {len(skipped)} (not scored; see summary.json skipped)")
+        lines += [f"  {s.file}: {s.reason}" for s in skipped[:top]]
+        if len(skipped) > top:
+            lines.append(f"  ... {len(skipped) - top} more")
     if outdir:
         lines.append(f"Output: {outdir}")
     return "\n".join(lines)
 
 
 def run(args) -> int:
-    from ..io.coords import read_models
     from ..io.shifts import read_shifts
+    from ..isolation import map_models_tolerant, no_model_left, read_models_tolerant
     from ..report.outdir import check_outdir, staged_outdir
     from ..report.tables import write_tables
     from ..score.scoring import score
@@ -165,11 +174,19 @@ def run(args) -> int:
         raise InputError(f"--min-identity must lie in (0, 1], got {args.min_identity:g}")
     check_outdir(args.outdir, args.force, inputs)        # fail early, before the work
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
-    ensembles = read_models(args.models, chain=args.chain)
-    res = score(shifts, ensembles, params=args.params, ring_model=args.ring_model, reref=args.reref,
+    ensembles, skipped = read_models_tolerant(args.models, chain=args.chain, strict=args.strict)
+    ensembles, mappings, unmapped = map_models_tolerant(shifts, ensembles, args.min_identity,
+                                                        strict=args.strict)
+    skipped += unmapped
+    if not ensembles:
+        raise no_model_left(skipped)
+    for s in skipped:
+        print(f"shiftcheck: warning: {s.file}: skipped: {s.reason}", file=sys.stderr)
+    res = score(shifts, ensembles, mappings, params=args.params, ring_model=args.ring_model, reref=args.reref,
                 k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
                 include_mean=not args.no_mean, min_identity=args.min_identity,
                 progress=_Progress(args.quiet))
+    res.skipped = skipped
     with staged_outdir(args.outdir, args.force, inputs) as tmp:
         write_tables(res, tmp)
         if not args.no_report:

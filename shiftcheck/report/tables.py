@@ -170,6 +170,7 @@ def summary_dict(res, created: str | None = None) -> dict:
         "secondary_structure": res.secondary,
         "left_out": left,
         "warnings": list(res.warnings),
+        "skipped": [{"file": str(x.file), "reason": str(x.reason)} for x in getattr(res, "skipped", [])],
         "parameters": dict(res.parameters),
     }
 

@@ -51,6 +51,7 @@ class ScoreResult:
     parameters: dict
     n_stereo_swaps: int = 0
     warnings: list[str] = field(default_factory=list)
+    skipped: list = field(default_factory=list)   # isolation.Skipped: model files left out
 
     @property
     def best_model(self) -> str:
