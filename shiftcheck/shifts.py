@@ -63,6 +63,9 @@ class ShiftList:
     other_lists : list of str
         Descriptions of shift lists / entities present in the file but not chosen.
     warnings : list of str
+    placeholders : list of dict
+        Rows set aside as placeholders (seq_id, comp_id, atom_id, value, line): not in the
+        arrays above, reported by the data checks.
     """
 
     source: str
@@ -83,6 +86,7 @@ class ShiftList:
     conditions: SampleConditions = field(default_factory=SampleConditions)
     other_lists: list[str] = field(default_factory=list)
     warnings: list[str] = field(default_factory=list)
+    placeholders: list[dict] = field(default_factory=list)
 
     def __len__(self) -> int:
         return int(self.value.shape[0])

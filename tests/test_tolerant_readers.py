@@ -107,3 +107,32 @@ def test_preamble_before_data_and_bom(realdata, tmp_path):
     q = tmp_path / "bom.str"
     q.write_bytes(b"\xef\xbb\xbf" + src)
     assert len(read_shifts(q)) == len(ref)
+
+
+def test_headerless_star21_loop_rows(realdata, tmp_path):
+    """The loop rows of akmt_d34a_shifts.str21 pasted without tags read as the same shifts."""
+    sm = realdata / "server_models" / "akmt_d34a_shifts.str21"
+    rows = [ln for ln in sm.read_text().splitlines() if ln.strip()[:1].isdigit() and len(ln.split()) == 8]
+    p = tmp_path / "rows.txt"
+    p.write_text("\n".join(rows) + "\n")
+    sl, ref = read_shifts(p), read_shifts(sm)
+    assert any("without tags" in w for w in sl.warnings)
+    assert len(sl) == len(ref) and np.allclose(np.sort(sl.value), np.sort(ref.value))
+
+
+def test_placeholder_values_left_out_with_their_line(realdata, tmp_path):
+    """999.99, 9999.0 and 1e9 in a real list: set aside, named by line, the rest scored."""
+    src = (realdata / "server_models" / "akmt_d34a_shifts.str21").read_text().splitlines()
+    idx = [i for i, ln in enumerate(src) if ln.strip()[:1].isdigit() and len(ln.split()) == 8][:3]
+    for i, v in zip(idx, ("999.99", "9999.0", "1e9")):
+        parts = src[i].split()
+        parts[5] = v
+        src[i] = " ".join(parts)
+    p = tmp_path / "ph.str21"
+    p.write_text("\n".join(src) + "\n")
+    from shiftcheck.score.sanity import check_shifts
+
+    sl = read_shifts(p)
+    assert sorted(x["line"] for x in sl.placeholders) == [i + 1 for i in idx]
+    found = [f for f in check_shifts(sl) if f.rule == "placeholder"]
+    assert {f"line {i + 1}:" for i in idx} <= {f.message.split(" ", 2)[0] + " " + f.message.split(" ", 2)[1] for f in found}

@@ -171,6 +171,8 @@ def build_comparison(shifts, ensembles, mappings, predictions, placeholders=(0.0
     groups: dict[tuple[int, str], dict] = {}
     seen: set[tuple[int, str]] = set()
     ends = entity_ends(shifts, ensembles, [mp.seq_to_res for mp in mappings])
+    for p in getattr(shifts, "placeholders", ()):      # set aside by the reader
+        leave("placeholder or missing value", f"{p['seq_id']} {p['comp_id']} {p['atom_id']}")
     for sid, comp, atom, val, amb in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id, shifts.value,
                                          shifts.ambiguity):
         sid, comp, atom = int(sid), str(comp), str(atom)

@@ -63,6 +63,11 @@ def check_shifts(shifts) -> list[Finding]:
     per_res: dict[int, dict[str, float]] = {}
     comp_of: dict[int, str] = {}
     first_seq = entity_ends(shifts)[0]   # its N is a free amine (about 30-40 ppm), not an amide
+    for p in getattr(shifts, "placeholders", ()):     # set aside by the reader
+        out.append(Finding(int(p["seq_id"]), str(p["comp_id"]), str(p["atom_id"]), "placeholder",
+                           f"line {p['line']}: {p['atom_id']} = {p['value']:g} ppm looks like a "
+                           "placeholder, not a measurement; left out of the comparison",
+                           src["placeholder"]))
     for sid, comp, atom, iso, val in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id,
                                          shifts.atom_type, shifts.value):
         sid, comp, atom, val = int(sid), str(comp), str(atom), float(val)
