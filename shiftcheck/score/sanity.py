@@ -158,12 +158,18 @@ def check_against_models(findings: list[Finding], ensembles, mappings) -> list[F
                     sg_idx = np.flatnonzero(ens.res_name == "CYS")
                     cache[("sg", i)] = (sg_idx, ens.xyz(sg_idx, "SG"))
                 sg_idx, sg = cache[("sg", i)]
-                k = int(np.flatnonzero(sg_idx == res)[0])
+                hit = np.flatnonzero(sg_idx == res)
+                if not hit.size:          # the model has another residue type here
+                    continue
+                k = int(hit[0])
+                has_sg = np.isfinite(sg[:, k, 0])     # models without this SG give no verdict
+                if not has_sg.any():
+                    continue
                 d = np.linalg.norm(sg - sg[:, [k]], axis=-1)
                 d[:, k] = np.inf
                 with np.errstate(invalid="ignore"):
                     bonded = np.nanmin(np.where(np.isnan(d), np.inf, d), axis=1) < thr
-                verdicts.append(np.where(bonded, "oxidised", "reduced"))
+                verdicts.append(np.where(bonded, "oxidised", "reduced")[has_sg])
         if not verdicts:
             out.append(f)
             continue
