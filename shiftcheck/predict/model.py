@@ -84,8 +84,11 @@ class Predictor:
             if not names:
                 continue
             conf = self.params.get("conformation", {})
-            _, grp, X, sel = sf.matrix(nuc, names, groups, self.ring_model, conf,
-                                      self.params.get("burial"))
+            try:
+                _, grp, X, sel = sf.matrix(nuc, names, groups, self.ring_model, conf,
+                                          self.params.get("burial"))
+            except ParameterError as exc:     # name the parameter file
+                raise ParameterError(exc.message, path=exc.path or self.params.get("_path")) from None
             w = np.asarray(block["values"], float)
             grp = np.asarray(grp)
             for g in np.unique(grp):
