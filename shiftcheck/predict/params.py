@@ -21,7 +21,6 @@ from __future__ import annotations
 
 import json
 import os
-import tempfile
 from importlib import resources
 from pathlib import Path
 
@@ -114,13 +113,6 @@ def save_params(params: dict, path: str | os.PathLike) -> None:
     validate_params(params, str(path))
     path = Path(path)
     clean = {k: v for k, v in params.items() if not k.startswith("_")}
-    fd, tmp = tempfile.mkstemp(prefix=".params-", suffix=".tmp", dir=path.parent or ".")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            json.dump(clean, fh, indent=1, sort_keys=False)
-            fh.write("\n")
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    from ..report.atomic import atomic_write_text
+
+    atomic_write_text(path, json.dumps(clean, indent=1, sort_keys=False) + "\n")
