@@ -160,6 +160,7 @@ def console_summary(res, outdir: str | None = None, top: int = 10) -> str:
 def run(args) -> int:
     from ..io.shifts import read_shifts
     from ..isolation import map_models_tolerant, no_model_left, read_models_tolerant
+    from ._options import check_score_options, check_show
     from ..report.outdir import check_outdir, staged_outdir
     from ..report.tables import write_tables
     from ..score.scoring import score
@@ -170,8 +171,7 @@ def run(args) -> int:
         bad = [f for f in args.plots.split(",") if f.strip() and f.strip().lower() not in PLOT_FORMATS]
         if bad:
             raise InputError(f"--plots: unknown plot format '{bad[0]}' (choose from {', '.join(PLOT_FORMATS)})")
-    if args.min_identity is not None and not 0.0 < args.min_identity <= 1.0:
-        raise InputError(f"--min-identity must lie in (0, 1], got {args.min_identity:g}")
+    check_score_options(args)
     check_outdir(args.outdir, args.force, inputs)        # fail early, before the work
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
     ensembles, skipped = read_models_tolerant(args.models, chain=args.chain, strict=args.strict)
@@ -180,6 +180,7 @@ def run(args) -> int:
     skipped += unmapped
     if not ensembles:
         raise no_model_left(skipped)
+    check_show(args.show if not args.no_report else [], ensembles)
     for s in skipped:
         print(f"shiftcheck: warning: {s.file}: skipped: {s.reason}", file=sys.stderr)
     res = score(shifts, ensembles, mappings, params=args.params, ring_model=args.ring_model, reref=args.reref,
