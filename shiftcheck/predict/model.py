@@ -97,6 +97,7 @@ class Predictor:
             predicted[sel] = True
         values = sum(terms.values())
         values[:, ~predicted] = np.nan
+        values[np.isnan(ens.coords[:, t.atom_index, 0])] = np.nan   # atom absent from that model
         return Prediction(ensemble_name=ens.name, model_names=list(ens.model_names),
                           chain_id=ens.chain_id, res_index=t.res_index.copy(),
                           res_seq=np.asarray(ens.res_seq)[t.res_index], comp_id=t.comp_id.astype(str),
