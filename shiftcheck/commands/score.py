@@ -115,7 +115,7 @@ def console_summary(res, outdir: str | None = None, top: int = 10) -> str:
         if n >= 30:
             lines.append(f"  ... {len(rk.order) - 30} more in ranking.csv")
             break
-        rms = " ".join(f"{res.metrics[x]['rmsd'][i]:5.2f}" if res.metrics[x]["n"] else "    -"
+        rms = " ".join(f"{res.metrics[x]['rmsd'][i]:5.2f}" if np.isfinite(res.metrics[x]["rmsd"][i]) else "    -"
                        for x in BACKBONE)
         mark = "*" if rk.best_group[i] else " "
         lines.append(f"  {rk.rank[i]:>4}{mark}{comp.entries[i].name[:24]:<24} {rk.score[i]:6.2f} "
@@ -143,6 +143,9 @@ def console_summary(res, outdir: str | None = None, top: int = 10) -> str:
         lines.append(f"  {f.seq_id:>5} {f.comp_id} {f.atom_id}: [{f.rule}] {f.message}")
     if res.warnings:
         lines.append(f"Warnings: {len(res.warnings)} (see summary.json)")
+    for name, a in list(comp.absent.items())[:top]:
+        lines.append(f"  {name}: lacks {a['n_absent']} of the {len(comp)} compared atoms; scored on its "
+                     f"other {a['n_compared']}")
     left = sum(comp.left_out.values())
     if left:
         lines.append(f"Left out of the comparison: {left} shifts (see summary.json left_out)")
