@@ -66,6 +66,9 @@ class ShiftList:
     placeholders : list of dict
         Rows set aside as placeholders (seq_id, comp_id, atom_id, value, line): not in the
         arrays above, reported by the data checks.
+    duplicates : list of dict
+        Repeated atoms (seq_id, comp_id, atom_id, kept, dropped, lines): the first value is
+        kept; the data checks report the repeat (a warning when the values differ).
     """
 
     source: str
@@ -87,6 +90,7 @@ class ShiftList:
     other_lists: list[str] = field(default_factory=list)
     warnings: list[str] = field(default_factory=list)
     placeholders: list[dict] = field(default_factory=list)
+    duplicates: list[dict] = field(default_factory=list)
 
     def __len__(self) -> int:
         return int(self.value.shape[0])

@@ -244,8 +244,8 @@ def build_shift_list(path: str, cols: dict[str, list[str] | None], lines: list[i
     for k, r in enumerate(rows):
         by_res[(r[0], r[2])].append(k)
     expanded: list[tuple] = []
-    seen: dict[tuple[int, str], int] = {}
-    dups = []
+    seen: dict[tuple[int, str], tuple[int, float]] = {}
+    dups, dup_rows = [], []
     for (seq, comp), idx in by_res.items():
         names = expand_residue_atom_names(comp, [rows[k][3] for k in idx])
         for k, group in zip(idx, names):
@@ -253,9 +253,12 @@ def build_shift_list(path: str, cols: dict[str, list[str] | None], lines: list[i
             for atom in group:
                 key = (seq, atom)
                 if key in seen:
-                    dups.append(f"{comp} {seq} {atom} (lines {seen[key]}, {r[8]})")
+                    dups.append(f"{comp} {seq} {atom} (lines {seen[key][0]}, {r[8]})")
+                    dup_rows.append({"seq_id": seq, "comp_id": comp, "atom_id": atom,
+                                     "kept": seen[key][1], "dropped": r[5],
+                                     "lines": [seen[key][0], r[8]]})
                     continue
-                seen[key] = r[8]
+                seen[key] = (r[8], r[5])
                 typ = r[4] if r[4] and r[4] not in _MISSING and len(group) == 1 else atom[:1]
                 expanded.append((seq, r[1], comp, atom, typ, r[5], r[6], r[7], r[8]))
     if dups:
@@ -272,7 +275,8 @@ def build_shift_list(path: str, cols: dict[str, list[str] | None], lines: list[i
         atom_type=np.asarray(arr[4], dtype=str), value=np.asarray(arr[5], dtype=np.float64),
         error=np.asarray(arr[6], dtype=np.float64), ambiguity=np.asarray(arr[7], dtype=np.int64),
         line=np.asarray(arr[8], dtype=np.int64), conditions=conditions,
-        other_lists=list(other_lists), warnings=warnings, placeholders=placeholders)
+        other_lists=list(other_lists), warnings=warnings, placeholders=placeholders,
+        duplicates=dup_rows)
 
 
 def _sequence(sequence, seq_of_rows, comp_of_rows, path, warnings):

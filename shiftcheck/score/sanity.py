@@ -11,6 +11,8 @@ Rules (tables and sources in shiftcheck/data/shift_ranges.json):
   This handles Ser and Thr, whose CB lies above CA, without special cases.
 * ``cis_pro`` - Pro CB-CG > 7 ppm suggests a cis Xaa-Pro bond (Schubert et al. 2002).
   With models: compared with the model's omega.
+* ``duplicate`` (from the reader's repeats), ``unknown_atom``, ``residue_conflict`` - see
+  :mod:`shiftcheck.score.sanity_rows`.
 * ``cys_redox`` - Cys CB < 32 ppm suggests reduced, > 35 ppm oxidised (Sharma & Rajarathnam
   2000). With models: compared with the model's disulfides (SG-SG < 2.5 A); a finding only when
   they disagree (without models, a note on the state read from the shifts).
@@ -63,6 +65,9 @@ def check_shifts(shifts) -> list[Finding]:
     per_res: dict[int, dict[str, float]] = {}
     comp_of: dict[int, str] = {}
     first_seq = entity_ends(shifts)[0]   # its N is a free amine (about 30-40 ppm), not an amide
+    from .sanity_rows import check_rows
+
+    out += check_rows(shifts)                          # repeats, unknown atoms, residue conflicts
     for p in getattr(shifts, "placeholders", ()):     # set aside by the reader
         out.append(Finding(int(p["seq_id"]), str(p["comp_id"]), str(p["atom_id"]), "placeholder",
                            f"line {p['line']}: {p['atom_id']} = {p['value']:g} ppm looks like a "
