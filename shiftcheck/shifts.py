@@ -10,6 +10,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .records import ShiftTables
+
 __all__ = ["ShiftList", "SampleConditions"]
 
 THREE_TO_ONE = {
@@ -29,8 +31,10 @@ class SampleConditions:
 
 
 @dataclass
-class ShiftList:
+class ShiftList(ShiftTables):
     """One assigned chemical-shift list of one entity.
+
+    ``to_records()`` / ``to_frame()``: one row per shift (:mod:`shiftcheck.records`).
 
     Attributes
     ----------

@@ -21,7 +21,8 @@ Generated from the argument parser by `python tools/gen_command_reference.py`; a
 that this page matches the parser. For a walk-through see [user_guide.md](user_guide.md).
 
 Every command accepts `--debug` (show a traceback instead of the one-line error message).
-Exit codes: 0 success, 2 bad input or usage (one line on stderr naming the file and problem).
+Exit codes: 0 success, 2 bad input or usage (one line on stderr naming the file and problem),
+3 `score --fail-on` condition met (outputs written; see [outputs.md](outputs.md#gates-for-scripts---fail-on-and---json)).
 """
 
 

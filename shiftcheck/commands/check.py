@@ -22,7 +22,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                     "range, placeholders, duplicates, CA/CB swaps, cis-Pro evidence (Pro CB-CG) and "
                     "Cys redox state (CB), each with its rule and source. Models, when given, are "
                     "used to compare cis-Pro and disulfide evidence.")
-    p.add_argument("shifts", metavar="SHIFTS", help="assigned chemical shifts (NMR-STAR or table)")
+    p.add_argument("shifts", metavar="SHIFTS", help="assigned chemical shifts (NMR-STAR, NEF or table)")
     p.add_argument("models", metavar="MODEL", nargs="*", help="optional coordinate files")
     p.add_argument("--chain", metavar="C", help="author chain ID in the models")
     add_common_options(p)

@@ -30,7 +30,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("-o", "--outdir", metavar="DIR", default=DEFAULT_OUTDIR,
                    help=f"output directory (default: ./{DEFAULT_OUTDIR}; must be empty unless --force)")
     p.add_argument("--force", action="store_true", help="write into a non-empty DIR")
-    p.add_argument("--no-report", action="store_true", help="skip the PDF/PNG report")
+    p.add_argument("--no-report", action="store_true", help="skip the report (PDF/PNG and report.html)")
     p.add_argument("--quiet", action="store_true", help="print only the short summary")
     return p
 

@@ -17,17 +17,18 @@ __all__ = ["add_parser", "run", "describe"]
 def add_parser(subparsers) -> argparse.ArgumentParser:
     p = subparsers.add_parser(
         "inspect", help="show what was read from a shift list and models, and how they map",
-        description="Read an assigned chemical-shift list (NMR-STAR 3.x / 2.1 or a plain table) and "
+        description="Read an assigned chemical-shift list (NMR-STAR 3.x / 2.1, NEF or a plain table) and "
                     "optional coordinate files (PDB/mmCIF, .gz allowed) and print what was read: "
                     "shift lists, entities, counts per nucleus, sample conditions, models, chains, "
                     "atoms, hydrogens built, the residue mapping and all warnings.")
-    p.add_argument("shifts", metavar="SHIFTS", help="assigned chemical shifts (NMR-STAR or table)")
+    p.add_argument("shifts", metavar="SHIFTS", help="assigned chemical shifts (NMR-STAR, NEF or table)")
     p.add_argument("models", metavar="MODELS", nargs="*", help="coordinate files (PDB or mmCIF)")
     p.add_argument("--chain", metavar="C", help="author chain ID in the models "
                    "(default: the first chain with protein residues)")
     p.add_argument("--list-id", metavar="ID", help="assigned shift list ID or saveframe name "
                    "(default: the only list, or the largest protein list)")
-    p.add_argument("--entity", metavar="ID", help="entity or entity-assembly ID of the shifts")
+    p.add_argument("--entity", metavar="ID", help="entity or entity-assembly ID of the shifts "
+                   "(NEF: chain code)")
     p.add_argument("--min-identity", metavar="F", type=float, default=None,
                    help="refuse a mapping below this sequence identity (default 0.9)")
     p.add_argument("--alignment", action="store_true", help="print the full sequence alignments")

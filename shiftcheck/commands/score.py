@@ -18,9 +18,11 @@ __all__ = ["add_parser", "run", "console_summary", "add_common_options"]
 
 def add_common_options(p: argparse.ArgumentParser) -> None:
     """Shift-list selection options shared with ``check``."""
-    p.add_argument("--list-id", metavar="ID", help="assigned shift list ID or saveframe name "
+    p.add_argument("--list-id", metavar="ID", help="assigned shift list ID or saveframe name (NEF: "
+                   "save frame name of the nef_chemical_shift_list) "
                    "(default: the only list, or the largest protein list)")
-    p.add_argument("--entity", metavar="ID", help="entity or entity-assembly ID of the shifts")
+    p.add_argument("--entity", metavar="ID", help="entity or entity-assembly ID of the shifts "
+                   "(NEF: chain code)")
 
 
 def add_parser(subparsers) -> argparse.ArgumentParser:
@@ -30,12 +32,17 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                     "the models with bootstrap confidence, flag disagreeing residues and run the "
                     "data checks. Writes ranking.csv, residues.csv, summary.json (and the report) "
                     "into OUTDIR.")
-    p.add_argument("shifts", metavar="SHIFTS", help="assigned chemical shifts (NMR-STAR or table)")
+    p.add_argument("shifts", metavar="SHIFTS", help="assigned chemical shifts (NMR-STAR, NEF or table)")
     p.add_argument("models", metavar="MODEL", nargs="+", help="coordinate files (PDB or mmCIF, .gz allowed)")
     p.add_argument("-o", "--outdir", metavar="OUTDIR", required=True,
                    help="output directory (created; must be empty unless --force)")
     p.add_argument("--chain", metavar="C", help="author chain ID in the models (default: first protein chain)")
     add_common_options(p)
+    p.add_argument("--temperature", metavar="K", type=float, default=None,
+                   help="sample temperature in kelvin, for the random-coil corrections (default: "
+                        "the shift file's sample conditions; NEF files carry none)")
+    p.add_argument("--ph", metavar="PH", type=float, default=None,
+                   help="sample pH (default: the shift file's sample conditions; NEF files carry none)")
     p.add_argument("--params", metavar="FILE", help="predictor parameter file (default: shipped)")
     p.add_argument("--min-identity", metavar="F", type=float, default=None,
                    help="lowest sequence identity accepted between the shift list and a model "
@@ -59,7 +66,15 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                    help="stop with an error at the first model that would be skipped "
                         "(unreadable, no protein chain, another sequence) instead of going on")
     p.add_argument("--quiet", action="store_true", help="no console summary, no progress bar")
-    p.add_argument("--no-report", action="store_true", help="skip the PDF/PNG report")
+    p.add_argument("--json", action="store_true",
+                   help="print summary.json's ranking and offsets as one JSON object on stdout "
+                        "(instead of the console summary)")
+    p.add_argument("--fail-on", metavar="CONDITIONS", default=None,
+                   help="exit with code 3, after writing the outputs, when any of these "
+                        "comma-separated conditions holds: offset (an offset was applied), "
+                        "flags>N (more than N atoms flagged in every model), score>X (best "
+                        "score above X), skipped (a model file was skipped)")
+    p.add_argument("--no-report", action="store_true", help="skip the report (PDF/PNG and report.html)")
     p.add_argument("--plots", metavar="FORMATS", default="png",
                    help="comma-separated figure formats written to OUTDIR/plots: png, svg (default: png)")
     p.add_argument("--show", metavar="MODEL", action="append", default=[],
@@ -163,20 +178,32 @@ def console_summary(res, outdir: str | None = None, top: int = 10) -> str:
 def run(args) -> int:
     from ..io.shifts import read_shifts
     from ..isolation import map_models_tolerant, no_model_left, read_models_tolerant
+    from ..report.corrected_star import write_corrected_star
     from ._options import check_score_options, check_show
     from ..report.outdir import check_outdir, staged_outdir
     from ..report.tables import write_tables
     from ..score.scoring import score
 
+    from ..gates import finish, parse_conditions
+
     inputs = [args.shifts, *args.models] + ([args.params] if args.params else [])
+    gates = parse_conditions(getattr(args, "fail_on", None))   # before any work
     if not args.no_report:                               # fail early on a bad format too
         from ..report.pdf import PLOT_FORMATS
         bad = [f for f in args.plots.split(",") if f.strip() and f.strip().lower() not in PLOT_FORMATS]
         if bad:
             raise InputError(f"--plots: unknown plot format '{bad[0]}' (choose from {', '.join(PLOT_FORMATS)})")
     check_score_options(args)
+    if args.temperature is not None and not 200.0 <= args.temperature <= 400.0:
+        raise InputError(f"--temperature is in kelvin and must lie in 200..400, got {args.temperature:g}")
+    if args.ph is not None and not 0.0 <= args.ph <= 14.0:
+        raise InputError(f"--ph must lie in 0..14, got {args.ph:g}")
     check_outdir(args.outdir, args.force, inputs)        # fail early, before the work
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
+    if args.temperature is not None:
+        shifts.conditions.temperature_K = args.temperature
+    if args.ph is not None:
+        shifts.conditions.pH = args.ph
     ensembles, skipped = read_models_tolerant(args.models, chain=args.chain, strict=args.strict)
     ensembles, mappings, unmapped = map_models_tolerant(shifts, ensembles, args.min_identity,
                                                         strict=args.strict)
@@ -193,6 +220,7 @@ def run(args) -> int:
     res.skipped = skipped
     with staged_outdir(args.outdir, args.force, inputs) as tmp:
         write_tables(res, tmp)
+        write_corrected_star(res, tmp)                   # only when an offset was applied
         if not args.no_report:
             try:
                 from ..report.pdf import write_report
@@ -202,6 +230,9 @@ def run(args) -> int:
             else:
                 formats = tuple(f.strip().lower() for f in args.plots.split(",") if f.strip())
                 write_report(tmp, formats=formats, show=tuple(args.show))
-    if not args.quiet:
+                from ..report.html import write_html
+                write_html(tmp, show=tuple(args.show))
+    as_json = getattr(args, "json", False)
+    if not args.quiet and not as_json:
         print(console_summary(res, outdir=args.outdir))
-    return 0
+    return finish(args.outdir, gates, as_json=as_json)

@@ -4,6 +4,7 @@ Formats, told apart by content (not by file name):
 
 * NMR-STAR 3.x (tags ``_Atom_chem_shift.*``) - :mod:`shiftcheck.io.star` (pynmrstar);
 * NMR-STAR 2.1 (``_Chem_shift_value``, ``_Saveframe_category``) - :mod:`shiftcheck.io.star21`;
+* NEF (``_nef_chemical_shift.*``) - :mod:`shiftcheck.io.nef` (pynmrstar);
 * plain tables (seq_id, residue, atom, shift [, error]) - :mod:`shiftcheck.io.tables`.
 
 Plain or gzip-compressed. Whatever the format, the rows go through
@@ -50,13 +51,13 @@ def read_shifts(path: str | os.PathLike, list_id: str | None = None,
     Parameters
     ----------
     path : path-like
-        NMR-STAR 3.x, NMR-STAR 2.1 or plain table; ``.gz`` (or gzip content) accepted.
+        NMR-STAR 3.x, NMR-STAR 2.1, NEF or plain table; ``.gz`` (or gzip content) accepted.
     list_id : str, optional
-        Which assigned shift list (ID or save frame name). Default: the only one, else the
-        largest, with a warning naming the others.
+        Which assigned shift list (ID or save frame name; NEF: save frame name). Default:
+        the only one, else the largest, with a warning naming the others.
     entity_id : str, optional
-        Which entity (Entity_ID, Entity_assembly_ID, or 2.1 component name). Default: the
-        entity with most shifts, with a warning.
+        Which entity (Entity_ID, Entity_assembly_ID, 2.1 component name, or NEF chain
+        code). Default: the entity with most shifts, with a warning.
 
     Returns
     -------
@@ -77,6 +78,9 @@ def read_shifts(path: str | os.PathLike, list_id: str | None = None,
         if fmt == "star3":
             from .star import read_star3
             return _noted(read_star3(text, p, list_id=list_id, entity_id=entity_id), notes)
+        if fmt == "nef":
+            from .nef import read_nef
+            return read_nef(text, p, list_id=list_id, entity_id=entity_id)
         if fmt == "star21":
             from .star21 import read_star21
             return _noted(read_star21(text, p, list_id=list_id, entity_id=entity_id), notes)
@@ -100,12 +104,14 @@ def read_text(path: str) -> str:
 
 
 def detect_format(text: str) -> str:
-    """'star3', 'star21', 'star-noshifts' or 'table', from the content."""
+    """'star3', 'star21', 'nef', 'star-noshifts' or 'table', from the content."""
     low = text.lower()
     if "_atom_chem_shift." in low:
         return "star3"
     if "_chem_shift_value" in low:
         return "star21"
+    if "_nef_chemical_shift." in low:
+        return "nef"
     stripped = [ln.strip().lower() for ln in text.splitlines()[:2000] if ln.strip()
                 and not ln.lstrip().startswith("#")]
     if any(s.startswith(("data_", "save_", "loop_", "_")) for s in stripped[:50]) or \

@@ -106,13 +106,20 @@ def contact_density(ens, targets, radii=(6.0, 8.0, 10.0), width: float = 1.0,
     cutoff = float(max(radii)) + max(width, 0.0)
     m, it, jh, dist = pairs_within(tx, ens.coords[:, heavy], cutoff)
     keep = np.abs(h_res[jh] - t_res[it]) > exclude
-    m, it, dist = m[keep], it[keep], dist[keep]
-    flat = m * n_t + it
+    flat = (m * n_t + it)[keep]
+    dist = dist[keep]
+    size = n_models * n_t
     out = {}
     for rad in radii:
-        w = switch(dist, float(rad), width)
-        out[f"bur:{float(rad):g}"] = np.bincount(flat, weights=w, minlength=n_models * n_t
-                                                 ).reshape(n_models, n_t)
+        rad = float(rad)
+        if width <= 0:
+            val = np.bincount(flat, weights=switch(dist, rad, width), minlength=size)
+        else:   # s = 1 inside R - w, 0 beyond R + w: only the shell needs the cos² (same sum)
+            lo, hi = rad - width, rad + width
+            val = np.bincount(flat, weights=dist <= lo, minlength=size)
+            shell = (dist > lo) & (dist < hi)
+            val += np.bincount(flat[shell], weights=switch(dist[shell], rad, width), minlength=size)
+        out[f"bur:{rad:g}"] = val.reshape(n_models, n_t)
     return out
 
 

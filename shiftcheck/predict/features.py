@@ -116,16 +116,21 @@ class StructureFeatures:
                          table or load_table())
         return cls(ens=ens, targets=t, torsions=tors, rc=rc)
 
-    def ring(self, model: str) -> dict[str, np.ndarray]:
-        if model not in self._ring:
+    def ring(self, model: str, nucleus: str | None = None) -> dict[str, np.ndarray]:
+        """Ring-current factors per ring type, (n_models, n_targets), or for the targets of one
+        nucleus class only (n_models, n_selected) — so classes without a ring term cost nothing."""
+        key = (model, nucleus)
+        if key not in self._ring:
             from .ringcurrent import ring_current_factors
             from .rings import find_rings
 
             if self._rings is None:
                 self._rings = find_rings(self.ens)
-            self._ring[model] = ring_current_factors(self.ens, self.targets.atom_index, model,
-                                                     rings=self._rings)
-        return self._ring[model]
+            idx = self.targets.atom_index
+            if nucleus is not None:
+                idx = idx[self.targets.nucleus == nucleus]
+            self._ring[key] = ring_current_factors(self.ens, idx, model, rings=self._rings)
+        return self._ring[key]
 
     def hbond(self) -> dict[str, np.ndarray]:
         if self._hb is None:
@@ -196,8 +201,8 @@ class StructureFeatures:
             for k, n in enumerate(cn):
                 cols[f"conf:{n}"] = ("conformation", cf[:, ri, k])
         if "ring_current" in groups:
-            for rt, g in self.ring(ring_model).items():
-                cols[f"ring:{rt}"] = ("ring_current", np.nan_to_num(g[:, sel]))
+            for rt, g in self.ring(ring_model, nucleus).items():
+                cols[f"ring:{rt}"] = ("ring_current", np.nan_to_num(g))
         if "hbond" in groups and nucleus in HBOND_FEATURES:
             hb = self.hbond()
             for f in HBOND_FEATURES[nucleus]:

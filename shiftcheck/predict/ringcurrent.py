@@ -30,9 +30,7 @@ from functools import lru_cache
 from importlib import resources
 
 import numpy as np
-from scipy.special import ellipe, ellipk
-
-from .rings import RING_TYPES, find_rings, pairs_within, ring_frames
+from .rings import RING_TYPES, find_rings, ring_frames
 
 __all__ = ["RING_MODELS", "JB_LOOP_OFFSET", "ring_current_parameters", "point_dipole", "johnson_bovey", "haigh_mallion",
            "johnson_bovey_loop_field", "ring_factor", "ring_current_factors"]
@@ -83,6 +81,8 @@ def johnson_bovey_loop_field(rho: np.ndarray, z: np.ndarray) -> np.ndarray:
     ``m = 4ρ/((1+ρ)²+z²)``; ρ, z in units of the loop radius (Johnson & Bovey 1958;
     standard result for a circular loop). On the axis L = 2π/(1+z²)^{3/2}.
     """
+    from scipy.special import ellipe, ellipk   # imported here: only this ring model needs it
+
     rho = np.abs(np.asarray(rho, dtype=float))
     z = np.asarray(z, dtype=float)
     s = (1.0 + rho) ** 2 + z * z
@@ -190,17 +190,95 @@ def ring_current_factors(ens, targets: np.ndarray, model: str = "haigh-mallion",
     t_res = np.full(n_t, -1, dtype=np.int64)
     t_res[have] = np.asarray(ens.atom_res)[targets[have]]
     out: dict[str, np.ndarray] = {}
+    flat_tx = tx.reshape(-1, 3)
     for rt in RING_TYPES:
         acc = np.zeros(n_models * n_t)
         rs = rings.get(rt)
         if rs is not None and rs.n_rings and n_t:
             centre = np.where(rs.valid[..., None], rs.centre, np.nan)
-            m, it, jr, _ = pairs_within(tx, centre, cutoff)
-            keep = t_res[it] != rs.res_index[jr]
-            m, it, jr = m[keep], it[keep], jr[keep]
-            if m.size:
-                g = ring_factor(tx[m, it], rs.xyz[m, jr], model, centre=rs.centre[m, jr],
-                                normal=rs.normal[m, jr], radius=rs.radius[m, jr])
-                acc += np.bincount(m * n_t + it, weights=g, minlength=n_models * n_t)
+            ft, fr = _ring_pairs(tx, centre, t_res, rs.res_index, cutoff)
+            if ft.size:
+                kernel = _PAIR_KERNELS[model](rs)
+                for s in range(0, ft.size, _CHUNK):          # bounded temporaries
+                    fc = ft[s:s + _CHUNK]
+                    acc += np.bincount(fc, weights=kernel(flat_tx[fc], fr[s:s + _CHUNK]),
+                                       minlength=n_models * n_t)
         out[rt] = acc.reshape(n_models, n_t)
     return out
+
+
+#: Pairs handled per block in :func:`ring_current_factors` (keeps temporaries to a few MB).
+_CHUNK = 32768
+
+
+def _ring_pairs(tx, centre, t_res, ring_res, cutoff):
+    """(target, ring) pairs within ``cutoff`` in each model, rings of the target's residue left out.
+
+    Rings are few, so the distances of every target to every ring centre are computed directly,
+    a block of models at a time (blocks of about a million distances). Returns flat indices
+    ``model * n_targets + target`` and ``model * n_rings + ring``, in (model, target, ring) order.
+    """
+    n_models, n_t = tx.shape[:2]
+    n_r = centre.shape[1]
+    other = t_res[:, None] != ring_res[None, :]                 # (n_t, n_r), topology only
+    step = max(1, (1 << 20) // max(1, n_t * n_r))
+    ft, fr = [], []
+    c2 = cutoff * cutoff
+    for m0 in range(0, n_models, step):
+        d = tx[m0:m0 + step, :, None, :] - centre[m0:m0 + step, None, :, :]
+        with np.errstate(invalid="ignore"):
+            near = (np.einsum("mtrd,mtrd->mtr", d, d) <= c2) & other
+        m, it, jr = np.nonzero(near)
+        ft.append((m + m0) * n_t + it)
+        fr.append((m + m0) * n_r + jr)
+    return np.concatenate(ft), np.concatenate(fr)
+
+
+def _flat(a):
+    """(n_models, n_rings, ...) -> (n_models * n_rings, ...)."""
+    return a.reshape((-1,) + a.shape[2:])
+
+
+def _hm_kernel(rs):
+    """Haigh–Mallion factor of (point, ring) pairs with the per-ring parts computed once.
+
+    With u_j = a_j − c (ring atoms about the centre), v = P − c and the projection of P on the
+    plane P' = c + v − (v·n)n, the signed area of (P', a_j, a_k) is
+    ``S_jk = ½ n·(u_j × u_k) + ½ v·((u_j − u_k) × n)`` (the component of v along n drops out),
+    so only the scalar ``A_jk`` and the vector ``E_jk`` are stored per ring edge and each pair
+    costs a dot product per edge. Equal to :func:`haigh_mallion` up to rounding.
+    """
+    n = rs.normal / np.linalg.norm(rs.normal, axis=-1, keepdims=True)
+    u = rs.xyz - rs.centre[..., None, :]
+    u_next = np.roll(u, -1, axis=-2)
+    area0 = _flat(0.5 * np.einsum("mrkd,mrd->mrk", np.cross(u, u_next), n))
+    edge = _flat(0.5 * np.cross(u - u_next, n[..., None, :]))
+    centre, xyz = _flat(rs.centre), _flat(rs.xyz)
+
+    def kernel(p, j):
+        v = p - centre[j]
+        area = area0[j] + np.einsum("pkd,pd->pk", edge[j], v)
+        d = xyz[j] - p[:, None, :]
+        r = np.sqrt(np.einsum("pkd,pkd->pk", d, d))
+        inv3 = 1.0 / r ** 3
+        return -np.sum(area * (inv3 + np.roll(inv3, -1, axis=-1)), axis=-1)
+    return kernel
+
+
+def _jb_kernel(rs):
+    xyz, centre, normal, radius = _flat(rs.xyz), _flat(rs.centre), _flat(rs.normal), _flat(rs.radius)
+
+    def kernel(p, j):
+        return johnson_bovey(p, xyz[j], centre=centre[j], normal=normal[j], radius=radius[j])
+    return kernel
+
+
+def _pd_kernel(rs):
+    centre, normal = _flat(rs.centre), _flat(rs.normal)
+
+    def kernel(p, j):
+        return point_dipole(p, centre[j], normal[j])
+    return kernel
+
+
+_PAIR_KERNELS = {"haigh-mallion": _hm_kernel, "johnson-bovey": _jb_kernel, "point-dipole": _pd_kernel}

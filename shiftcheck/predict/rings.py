@@ -174,9 +174,7 @@ def pairs_within(a: np.ndarray, b: np.ndarray, cutoff: float
     pa[:, 0] += ma * span
     pb[:, 0] += mb * span
     res = cKDTree(pa).sparse_distance_matrix(cKDTree(pb), cutoff, output_type="ndarray")
-    if n_models and res.size:
+    if n_models and res.size:   # the offsets keep models apart: points |x| >= span - extent > cutoff
         u, v = res["i"], res["j"]
-        same = ma[u] == mb[v]  # defensive: offsets already separate models
-        u, v = u[same], v[same]
-        return ma[u], ia[u], jb[v], res["v"][same]
+        return ma[u], ia[u], jb[v], res["v"]
     return empty

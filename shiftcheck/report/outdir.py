@@ -23,7 +23,8 @@ from .atomic import umask
 __all__ = ["check_outdir", "staged_outdir", "OUTPUT_NAMES"]
 
 #: What a score run writes into OUTDIR (``--force`` removes these before writing anew).
-OUTPUT_NAMES = ("ranking.csv", "residues.csv", "summary.json", "report.pdf", "plots")
+OUTPUT_NAMES = ("ranking.csv", "residues.csv", "summary.json", "shifts_corrected.str", "report.pdf",
+                "report.html", "plots")
 
 
 def check_outdir(outdir: str | os.PathLike, force: bool = False, inputs=()) -> Path:

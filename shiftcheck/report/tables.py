@@ -8,6 +8,7 @@ import csv
 import datetime as _dt
 import hashlib
 import io
+import itertools
 import json
 import math
 import os
@@ -88,6 +89,60 @@ def residue_rows(res):
                    "residual": _num(res.residual[e, j]), "z": _num(res.z[e, j], 3),
                    "flag": (klass[j] or "some") if flagged else "",
                    "model_res": model_res.get((entry.ensemble, int(comp.seq_id[j])), "")}
+
+
+def _text(values, nd: int | None = None) -> list[str]:
+    """Column of CSV fields: ``str(round(x, nd))`` of finite numbers, '' otherwise (as :func:`_num`).
+
+    Python's ``round`` (correctly rounded, unlike numpy's) and ``repr`` keep the bytes identical
+    to the row-wise writer; both run as C-level ``map`` loops over the whole column.
+    """
+    a = np.asarray(values, dtype=float)
+    ok = np.isfinite(a)
+    vals = a.tolist()
+    out = list(map(repr, map(round, vals, itertools.repeat(nd)))) if nd is not None else list(map(repr, vals))
+    if not ok.all():
+        for i in np.flatnonzero(~ok).tolist():
+            out[i] = ""
+    return out
+
+
+def _quote(field: str) -> str:
+    """csv.QUOTE_MINIMAL for one field (delimiter, quote character or line break inside)."""
+    if any(c in field for c in ',"\r\n'):
+        return '"' + field.replace('"', '""') + '"'
+    return field
+
+
+def _residues_csv(res) -> str:
+    """residues.csv built column by column (same bytes as ``_csv(residue_rows(res), ...)``)."""
+    comp = res.comparison
+    n, n_e = len(comp), len(comp.entries)
+    corr = res.correction
+    klass = np.asarray(res.outliers.klass, dtype=object)
+    per_atom = {
+        "seq_id": [str(int(x)) for x in comp.seq_id], "comp_id": [str(x) for x in comp.comp_id],
+        "atom_id": [str(x) for x in comp.atom_id], "nucleus": [str(x) for x in comp.nucleus],
+        "measured": _text(comp.measured, 4), "offset": _text(corr, 4)}
+    cols: dict[str, list[str]] = {k: v * n_e for k, v in per_atom.items()}
+    cols["model"] = [x for e in comp.entries for x in [e.name] * n]
+    cols["chain"] = [x for e in comp.entries for x in [e.chain] * n]
+    cols["predicted"] = _text(np.asarray(comp.predicted).reshape(-1), 4)
+    cols["residual"] = _text(np.asarray(res.residual).reshape(-1), 4)
+    cols["z"] = _text(np.asarray(res.z).reshape(-1), 3)
+    some = np.array([(k or "some") for k in klass], dtype=object) if n else np.zeros(0, object)
+    flagged = np.asarray(res.outliers.flagged, dtype=bool).reshape(n_e, n)
+    cols["flag"] = np.where(flagged, some[None, :], "").reshape(-1).tolist()
+    own: dict[int, list[str]] = {}
+    for ei, (ens, mp) in enumerate(zip(res.ensembles, res.mappings)):
+        lab = {int(sid): f"{ens.res_seq[r]}{ens.res_icode[r]}" for sid, r in mp.seq_to_res.items()}
+        own[ei] = [lab.get(int(sid), "") for sid in comp.seq_id]
+    cols["model_res"] = [x for e in comp.entries for x in own.get(e.ensemble, [""] * n)]
+    for k in ("model", "chain", "comp_id", "atom_id", "nucleus", "flag", "model_res"):
+        if any(c in "".join(set(cols[k])) for c in ',"\r\n'):
+            cols[k] = [_quote(x) for x in cols[k]]
+    body = "\n".join(map(",".join, zip(*(cols[c] for c in RESIDUE_COLUMNS))))
+    return ",".join(RESIDUE_COLUMNS) + "\n" + (body + "\n" if n and n_e else "")
 
 
 def _csv(rows, columns) -> str:
@@ -188,7 +243,7 @@ def write_tables(res, outdir: str | os.PathLike) -> list[Path]:
     out.mkdir(parents=True, exist_ok=True)
     paths = [out / "ranking.csv", out / "residues.csv", out / "summary.json"]
     _atomic_write(paths[0], _csv(ranking_rows(res), RANKING_COLUMNS))
-    _atomic_write(paths[1], _csv(residue_rows(res), RESIDUE_COLUMNS))
+    _atomic_write(paths[1], _residues_csv(res))
     _atomic_write(paths[2], json.dumps(summary_dict(res), indent=1, allow_nan=False,
                                                 default=_json_default) + "\n")
     return paths

@@ -14,6 +14,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..nuclei import ALL_CLASSES
+from ..records import ScoreTables
 from ._constants import scoring_constants
 from .common import Comparison, build_comparison, resolve_stereo
 from .metrics import combined_score, huber_q, per_nucleus_metrics
@@ -26,8 +27,11 @@ __all__ = ["ScoreResult", "score", "expected_errors"]
 
 
 @dataclass
-class ScoreResult:
+class ScoreResult(ScoreTables):
     """Everything ``shiftcheck score`` computes (written out by :mod:`shiftcheck.report.tables`).
+
+    ``to_records(table)`` / ``to_frame(table)`` give ``ranking``, ``residues`` or ``offsets`` as
+    plain dicts or a pandas DataFrame (:mod:`shiftcheck.records`).
 
     Arrays over entries (models and ``name#mean`` entries) follow ``comparison.entries``.
     """

@@ -1,0 +1,167 @@
+"""Whole-pipeline speed against the cost of reading: ``score --no-report``, size scaling, start-up.
+
+    SHIFTCHECK_REALDATA=../shared/realdata python benchmarks/bench_pipeline.py [--repeat 3]
+
+Prints, side by side in one run (best of ``--repeat`` runs each; the machine may be shared):
+
+1. The 200-model ensemble: the 20 NMR models of ``this/2k5p.pdb`` (78 residues, 1,180 atom
+   sites a model, hydrogens included) written ten times over into one temporary multi-model PDB
+   file (MODEL 1..200). Times ``gemmi.read_structure`` on that file, ``shiftcheck score
+   --no-report`` in-process (``shiftcheck.cli.main``, imports already loaded) and as a
+   subprocess (``python -m shiftcheck``, start-up included), with atoms per second and the
+   ratio to gemmi's read. Shifts: ``this/2k5p_shifts.str``.
+2. Per-atom time of reading + predicting at about 60 and about 1,000 residues: the 20-model
+   NMR ensemble of chymotrypsin inhibitor 2 (``ci2/3CI2.pdb``, 64 residues, hydrogens in the
+   file) against a synthetic 1,000-residue chain made from the crystal structure of sensory
+   rhodopsin II (``sensory_rhodopsin/1H68.pdb``, 217 protein residues): its protein residues
+   copied end to end (each copy moved 10 A beyond the previous one along x, so copies do not
+   touch; the chain is broken between copies, which the torsion code sees as a chain break)
+   and cut at 1,000 residues, two identical models; shiftcheck builds its hydrogens, as for
+   any crystal structure. Per-atom time = time / (models x atoms after hydrogen building).
+3. ``python -m shiftcheck --help`` wall time.
+"""
+from __future__ import annotations
+
+import argparse
+import contextlib
+import io
+import os
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+from _timing import best_of, realdata_root
+
+ROOT = Path(__file__).resolve().parents[1]
+
+
+def build_repeated(src: Path, dest: Path, copies: int) -> int:
+    """Write the MODEL blocks of ``src`` ``copies`` times into ``dest``; return the model count."""
+    head, models, cur = [], [], None
+    for line in src.read_text().splitlines(keepends=True):
+        if line.startswith("MODEL"):
+            cur = []
+        elif line.startswith("ENDMDL"):
+            models.append(cur)
+            cur = None
+        elif cur is not None:
+            cur.append(line)
+        elif not models and line.startswith(("HEADER", "EXPDTA", "CRYST1")):
+            head.append(line)
+    out, k = list(head), 0
+    for _ in range(copies):
+        for m in models:
+            k += 1
+            out += [f"MODEL     {k:4d}\n", *m, "ENDMDL\n"]
+    dest.write_text("".join(out) + "END\n")
+    return k
+
+
+def build_long_chain(src: Path, dest: Path, n_res: int = 1000, n_models: int = 2) -> None:
+    """Protein residues of ``src`` copied end to end into one chain of ``n_res`` residues."""
+    import gemmi
+
+    st = gemmi.read_structure(str(src))
+    st.remove_ligands_and_waters()
+    st.remove_hydrogens()
+    chain = st[0][0]
+    res = [r for r in chain if gemmi.find_tabulated_residue(r.name) is not None
+           and gemmi.find_tabulated_residue(r.name).is_amino_acid()]
+    xs = [a.pos.x for r in res for a in r]
+    step = max(xs) - min(xs) + 10.0
+    out = gemmi.Structure()
+    out.cell = st.cell
+    for mi in range(n_models):
+        model = gemmi.Model(str(mi + 1))
+        ch = gemmi.Chain("A")
+        k = 0
+        while k < n_res:
+            for r in res:
+                if k >= n_res:
+                    break
+                nr = r.clone()
+                nr.seqid = gemmi.SeqId(k + 1, " ")
+                for a in nr:
+                    a.pos = gemmi.Position(a.pos.x + step * (k // len(res)), a.pos.y, a.pos.z)
+                ch.add_residue(nr)
+                k += 1
+        model.add_chain(ch)
+        out.add_model(model)
+    out.setup_entities()
+    dest.write_text(out.make_pdb_string())
+
+
+def _score_args(shifts, pdb, outdir):
+    return ["score", str(shifts), str(pdb), "-o", str(outdir), "--no-report", "--quiet", "--force"]
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("--repeat", type=int, default=3, help="runs per figure; the best is kept")
+    a = ap.parse_args(argv)
+    data = realdata_root()
+    import gemmi
+
+    from shiftcheck.cli import main as cli_main
+    from shiftcheck.io.coords import read_models
+    from shiftcheck.predict.model import Predictor
+
+    env = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    with tempfile.TemporaryDirectory(prefix="shiftcheck-bench-") as tmp:
+        tmp = Path(tmp)
+        pdb = tmp / "ens200.pdb"
+        n_models = build_repeated(data / "this" / "2k5p.pdb", pdb, 10)
+        shifts = data / "this" / "2k5p_shifts.str"
+        n_sites = sum(m.count_atom_sites() for m in gemmi.read_structure(str(pdb)))
+        t_gemmi = best_of(lambda: gemmi.read_structure(str(pdb)), a.repeat)
+        out = tmp / "out"
+
+        def run_inproc():
+            with contextlib.redirect_stdout(io.StringIO()):
+                rc = cli_main(_score_args(shifts, pdb, out))
+            assert rc == 0, rc
+
+        t_first = time.perf_counter()
+        run_inproc()
+        t_first = time.perf_counter() - t_first
+        t_in = best_of(run_inproc, a.repeat)
+        cmd = [sys.executable, "-m", "shiftcheck", *_score_args(shifts, pdb, out)]
+        t_sub = best_of(lambda: subprocess.run(cmd, env=env, check=True, capture_output=True), a.repeat)
+        print(f"200-model ensemble: {n_models} models of 2k5p, {n_sites} atom sites, "
+              f"{pdb.stat().st_size / 1e6:.1f} MB")
+        print(f"  {'step':<42} {'time':>8} {'atoms/s':>10} {'x gemmi':>8}")
+        for label, t in (("gemmi.read_structure", t_gemmi),
+                         ("score --no-report, in-process", t_in),
+                         ("  (first in-process call)", t_first),
+                         ("score --no-report, subprocess", t_sub)):
+            print(f"  {label:<42} {t:8.3f} {n_sites / t / 1e3:9.0f}k {t / t_gemmi:8.1f}")
+
+        # --- size scaling: about 60 against about 1,000 residues
+        small = data / "ci2" / "3CI2.pdb"
+        large = tmp / "long1000.pdb"
+        build_long_chain(data / "sensory_rhodopsin" / "1H68.pdb", large)
+        pred = Predictor()
+        print("per-atom time, read + predict (predict alone in brackets):")
+        per = {}
+        for label, path in (("3CI2, 64 residues", small), ("1H68 x 4.6, 1000 residues", large)):
+            ens = read_models([path])[0]
+            n = ens.n_models * ens.n_atoms
+            t_read = best_of(lambda: read_models([path]), a.repeat)
+            t_pred = best_of(lambda: pred.predict(ens), a.repeat)
+            per[label] = (t_read + t_pred) / n
+            print(f"  {label:<28} {ens.n_residues:5d} res {ens.n_models:3d} models {ens.n_atoms:6d} atoms: "
+                  f"{(t_read + t_pred) / n * 1e6:6.2f} us/atom ({t_pred / n * 1e6:5.2f} us/atom)")
+        v = list(per.values())
+        print(f"  ratio 1000 / 60 residues: {v[1] / v[0]:.2f} (target <= 1.3)")
+
+    t_help = best_of(lambda: subprocess.run([sys.executable, "-m", "shiftcheck", "--help"], env=env,
+                                            check=True, capture_output=True), max(a.repeat, 5))
+    t_py = best_of(lambda: subprocess.run([sys.executable, "-c", "pass"], check=True), max(a.repeat, 5))
+    print(f"shiftcheck --help: {t_help:.3f} s (bare python start-up {t_py:.3f} s; target <= 0.3 s)")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
