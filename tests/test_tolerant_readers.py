@@ -136,3 +136,14 @@ def test_placeholder_values_left_out_with_their_line(realdata, tmp_path):
     assert sorted(x["line"] for x in sl.placeholders) == [i + 1 for i in idx]
     found = [f for f in check_shifts(sl) if f.rule == "placeholder"]
     assert {f"line {i + 1}:" for i in idx} <= {f.message.split(" ", 2)[0] + " " + f.message.split(" ", 2)[1] for f in found}
+
+
+def test_blank_chain_is_named_and_selectable(realdata):
+    """Server models with blank chain IDs (server_models/chunk_tasser_1.pdb): one note, and
+    --chain '' selects the chain."""
+    from shiftcheck.io.coords import read_models
+
+    p = realdata / "server_models" / "chunk_tasser_1.pdb"
+    ens = read_model_file(p)
+    assert ens.chain_id == "" and sum("blank chain ID" in w for w in ens.warnings) == 1
+    assert read_models(p, chain="", build_hydrogens=False)[0].n_residues == ens.n_residues

@@ -106,7 +106,7 @@ def console_summary(res, outdir: str | None = None, top: int = 10) -> str:
     comp, rk = res.comparison, res.ranking
     lines = [f"Shifts: {res.shifts.source} ({len(comp)} atoms on {comp.n_residues} residues compared)"]
     for ens, m in zip(res.ensembles, res.mappings):
-        lines.append(f"  {ens.name}: chain {ens.chain_id}, {ens.n_models} model(s), identity "
+        lines.append(f"  {ens.name}: chain {ens.chain_id or '(blank)'}, {ens.n_models} model(s), identity "
                      f"{m.identity:.2f}, coverage {m.coverage:.2f}")
     lines.append("")
     lines.append(f"Referencing offsets (measured - predicted, ppm; --reref {res.parameters['reref']}):")

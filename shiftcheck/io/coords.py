@@ -104,7 +104,8 @@ def read_model_file(path: str | os.PathLike, chain: str | None = None) -> Ensemb
     st = _parse(text, path)
     try:
         ens = _to_ensemble(st, path, chain)
-        ens.warnings[:0] = [f"repaired: {r}" for r in repairs]
+        ens.warnings[:0] = [f"repaired: {r}" for r in repairs] + (
+            ["blank chain ID: read as chain '' (select it with --chain '')"] if ens.chain_id == "" else [])
         return ens
     except ShiftcheckError:
         raise
