@@ -38,7 +38,28 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+class _Terminated(KeyboardInterrupt):
+    """SIGTERM/SIGHUP turned into an exception, so staged outputs and temporary files are removed."""
+
+
+def _on_signal(signum, frame):  # pragma: no cover - exercised in a subprocess test
+    raise _Terminated(signum)
+
+
+def _catch_signals() -> None:
+    import signal
+    import threading
+
+    if threading.current_thread() is not threading.main_thread():
+        return
+    for name in ("SIGTERM", "SIGHUP"):
+        sig = getattr(signal, name, None)
+        if sig is not None and signal.getsignal(sig) in (signal.SIG_DFL, None):
+            signal.signal(sig, _on_signal)
+
+
 def main(argv: list[str] | None = None) -> int:
+    _catch_signals()
     parser = build_parser()
     args = parser.parse_args(argv)
     if not getattr(args, "_run", None):
@@ -51,6 +72,9 @@ def main(argv: list[str] | None = None) -> int:
             raise
         print(f"shiftcheck: error: {exc}", file=sys.stderr)
         return 2
+    except _Terminated as exc:
+        print("shiftcheck: terminated by a signal; nothing written", file=sys.stderr)
+        return 128 + int(exc.args[0]) if exc.args else 143
     except KeyboardInterrupt:
         print("shiftcheck: interrupted", file=sys.stderr)
         return 130

@@ -36,6 +36,7 @@ class Batch:
 
     index: tuple[int, ...]
     ensembles: tuple[Ensemble, ...]
+    mappings: tuple[Mapping, ...] | None = None     # given: used as they are; None: mapped by the worker
 
 
 @dataclass(frozen=True)
@@ -47,20 +48,27 @@ class BatchResult:
     predictions: tuple[Prediction, ...]
 
 
-def model_batches(ensembles: Iterable[Ensemble], size: int = 1) -> Iterator[Batch]:
-    """Group ensembles into batches of ``size`` (the last may be smaller), keeping input order."""
+def model_batches(ensembles: Iterable[Ensemble], size: int = 1,
+                  mappings: list[Mapping] | None = None) -> Iterator[Batch]:
+    """Group ensembles (with their mappings, when given) into batches of ``size`` (the last may
+    be smaller), keeping input order."""
     if size < 1:
         raise ValueError("batch size must be at least 1")
     index: list[int] = []
     group: list[Ensemble] = []
+
+    def batch() -> Batch:
+        return Batch(tuple(index), tuple(group),
+                     None if mappings is None else tuple(mappings[i] for i in index))
+
     for i, ens in enumerate(ensembles):
         index.append(i)
         group.append(ens)
         if len(group) == size:
-            yield Batch(tuple(index), tuple(group))
+            yield batch()
             index, group = [], []
     if group:
-        yield Batch(tuple(index), tuple(group))
+        yield batch()
 
 
 def predict_batch(shifts: ShiftList, batch: Batch, predictor: Predictor,
@@ -70,7 +78,9 @@ def predict_batch(shifts: ShiftList, batch: Batch, predictor: Predictor,
     Pure and picklable: the worker of :func:`predict_all`. Raises MappingError for shifts of
     another protein (all ensembles of the batch are mapped before any is predicted).
     """
-    mappings = tuple(map_sequence(shifts, ens, min_identity=min_identity) for ens in batch.ensembles)
+    mappings = batch.mappings
+    if mappings is None:
+        mappings = tuple(map_sequence(shifts, ens, min_identity=min_identity) for ens in batch.ensembles)
     preds = tuple(predictor.predict(ens, shifts.conditions) for ens in batch.ensembles)
     return BatchResult(batch.index, mappings, preds)
 
@@ -96,17 +106,20 @@ def reduce_batches(results: Iterable[BatchResult], n: int,
 
 
 def predict_all(shifts: ShiftList, ensembles: list[Ensemble], predictor: Predictor, *,
-                min_identity: float | None = None, batch_size: int = 1, mapper: Callable = map,
+                mappings: list[Mapping] | None = None, min_identity: float | None = None,
+                batch_size: int = 1, mapper: Callable = map,
                 progress: Callable[[int, int], None] | None = None) -> tuple[list[Mapping], list[Prediction]]:
-    """Map and predict every ensemble: batches -> ``mapper(worker, batches)`` -> reduce."""
+    """Map (unless ``mappings`` are given) and predict every ensemble: batches ->
+    ``mapper(worker, batches)`` -> reduce."""
     thr = DEFAULT_MIN_IDENTITY if min_identity is None else min_identity
-    batches = list(model_batches(ensembles, batch_size))
+    batches = list(model_batches(ensembles, batch_size, mappings))
     results = mapper(predict_batch, [shifts] * len(batches), batches, [predictor] * len(batches),
                      [thr] * len(batches))
     return reduce_batches(results, len(ensembles), progress)
 
 
-def score_models(shifts: ShiftList, ensembles: list[Ensemble], *, params=None, ring_model: str | None = None,
+def score_models(shifts: ShiftList, ensembles: list[Ensemble], *, mappings: list[Mapping] | None = None,
+                 params=None, ring_model: str | None = None,
                  min_identity: float | None = None, reref: str = "auto", k_sigma: float | None = None,
                  n_boot: int | None = None, seed: int | None = None, include_mean: bool = True,
                  batch_size: int = 1, mapper: Callable = map,
@@ -120,7 +133,7 @@ def score_models(shifts: ShiftList, ensembles: list[Ensemble], *, params=None, r
     if not ensembles:
         raise InputError("no models given")
     predictor = Predictor(params, ring_model)
-    mappings, preds = predict_all(shifts, ensembles, predictor, min_identity=min_identity,
+    mappings, preds = predict_all(shifts, ensembles, predictor, mappings=mappings, min_identity=min_identity,
                                   batch_size=batch_size, mapper=mapper, progress=progress)
     return score(shifts, ensembles, mappings, preds, params=predictor.params,
                  ring_model=predictor.ring_model, params_source=describe_params(predictor.params.get("_path")),
@@ -128,21 +141,36 @@ def score_models(shifts: ShiftList, ensembles: list[Ensemble], *, params=None, r
 
 
 def score_files(shift_path, model_paths, *, list_id=None, entity_id=None, chain: str | None = None,
-                temperature: float | None = None, ph: float | None = None, **options) -> ScoreResult:
+                temperature: float | None = None, ph: float | None = None, strict: bool = False,
+                on_models: Callable | None = None, **options) -> ScoreResult:
     """Read a shift file and coordinate files, then :func:`score_models` (same keyword options).
 
-    ``temperature`` (K) and ``ph`` replace the sample conditions read from the shift file (NEF
-    files carry none)."""
-    from .io.coords import read_models
+    A model file that cannot be read, has no protein chain or does not map onto the shift list
+    is skipped (``ScoreResult.skipped`` says which and why) unless ``strict``, when it raises
+    the usual one-line error; no model left raises with every reason. ``on_models(ensembles,
+    skipped)`` is called once the models are read and mapped, before any prediction (the CLI
+    checks ``--show`` names and prints the skips there). ``temperature`` (K) and ``ph`` replace
+    the sample conditions read from the shift file (NEF files carry none).
+    """
     from .io.shift_formats import read_shifts
+    from .isolation import map_models_tolerant, no_model_left, read_models_tolerant
 
     shifts = read_shifts(shift_path, list_id=list_id, entity_id=entity_id)
     if temperature is not None:
         shifts.conditions.temperature_K = temperature
     if ph is not None:
         shifts.conditions.pH = ph
-    ensembles = read_models(model_paths, chain=chain)
-    return score_models(shifts, ensembles, **options)
+    ensembles, skipped = read_models_tolerant(model_paths, chain=chain, strict=strict)
+    ensembles, mappings, unmapped = map_models_tolerant(shifts, ensembles, options.get("min_identity"),
+                                                        strict=strict)
+    skipped += unmapped
+    if not ensembles:
+        raise no_model_left(skipped)
+    if on_models is not None:
+        on_models(ensembles, skipped)
+    res = score_models(shifts, ensembles, mappings=mappings, **options)
+    res.skipped = skipped
+    return res
 
 
 def describe_params(path) -> str:

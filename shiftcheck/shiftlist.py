@@ -60,6 +60,12 @@ class ShiftList(ShiftTables):
     other_lists : list of str
         Descriptions of shift lists / entities present in the file but not chosen.
     warnings : list of str
+    placeholders : list of dict
+        Rows set aside as placeholders (seq_id, comp_id, atom_id, value, line): not in the
+        arrays above, reported by the data checks.
+    duplicates : list of dict
+        Repeated atoms (seq_id, comp_id, atom_id, kept, dropped, lines): the first value is
+        kept; the data checks report the repeat (a warning when the values differ).
     """
 
     source: str
@@ -80,6 +86,8 @@ class ShiftList(ShiftTables):
     conditions: SampleConditions = field(default_factory=SampleConditions)
     other_lists: list[str] = field(default_factory=list)
     warnings: list[str] = field(default_factory=list)
+    placeholders: list[dict] = field(default_factory=list)
+    duplicates: list[dict] = field(default_factory=list)
 
     def __len__(self) -> int:
         return int(self.value.shape[0])

@@ -132,11 +132,19 @@ def test_non_numeric_value(tmp_path, star):
     _check(_write(tmp_path, bad), line=first + 1, words="not a number")
 
 
-def test_out_of_range_value(tmp_path, star):
+def test_out_of_range_value_is_a_placeholder_not_a_refusal(tmp_path, star):
+    """A value outside -10..300 ppm (issue 13: 999, 1e9) is set aside as a placeholder and
+    reported by the data checks with its line; only a list of nothing else is refused."""
+    from shiftcheck.io.shift_formats import read_shifts
+    from shiftcheck.score.datacheck import check_shifts
+
     lines, first, _ = star
     bad = list(lines)
     bad[first - 1] = bad[first - 1].replace("55.1", "5510")
-    _check(_write(tmp_path, bad), line=first, words="outside")
+    sl = read_shifts(_write(tmp_path, bad))
+    assert 5510.0 not in sl.value and [p["line"] for p in sl.placeholders] == [first]
+    f = [x for x in check_shifts(sl) if x.rule == "placeholder"]
+    assert len(f) == 1 and f"line {first}:" in f[0].message
 
 
 def test_wrong_value_count_21(tmp_path):

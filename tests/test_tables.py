@@ -69,7 +69,7 @@ def test_placeholder_skipped_with_warning(tmp_path):
     ("1 J CA 52\n", 1, "one-letter"),
     ("Hello world, this is not a table\n", 1, "not a shift table"),
     ("seq atom shift\n1 CA 52\n", 1, "lacks"),
-    ("1 ALA CA 520\n", 1, "outside"),
+    ("1 ALA CA 520\n", 1, "placeholder"),   # the only value is set aside: nothing left
     ("1 ALA CA .\n", None, "missing"),
 ])
 def test_bad_tables(tmp_path, text, line, words):

@@ -28,6 +28,10 @@ def run(args) -> int:
     from ..predict.calibrate import Pair, calibrate, load_datasets, read_pairs_file
     from ..predict.params import save_params
 
+    from ..report.atomic import check_output_file
+
+    check_output_file(args.output, [*args.pairs_file, *(x for pr in args.pair for x in pr)],
+                      "parameter file")
     pairs = []
     for f in args.pairs_file:
         pairs += read_pairs_file(f, args.data_dir)

@@ -4,9 +4,7 @@ from __future__ import annotations
 import argparse
 import csv
 import io
-import os
 import sys
-import tempfile
 from typing import TYPE_CHECKING
 
 from ..defaults import RING_MODELS
@@ -33,37 +31,24 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     return p
 
 
-def prediction_rows(pred: Prediction):
-    """Yield (header, rows) for one Prediction: one row per (model, atom)."""
+def prediction_rows(pred: Prediction, icode=None):
+    """(header, rows) for one Prediction: one row per (model, atom).
+
+    ``icode`` gives each atom's insertion code (e.g. ``ens.res_icode[pred.res_index]``), written
+    in the ``ins_code`` column so that residues 52 and 52A stay apart.
+    """
     from ..predict.model import TERMS
 
-    header = ["model", "chain", "res_seq", "comp_id", "atom_id", "nucleus", "predicted", *TERMS]
+    header = ["model", "chain", "res_seq", "ins_code", "comp_id", "atom_id", "nucleus", "predicted", *TERMS]
+    icode = [""] * len(pred) if icode is None else [str(c).strip() for c in icode]
     rows = []
     for m, name in enumerate(pred.model_names):
         for k in range(len(pred)):
             v = pred.values[m, k]
-            rows.append([name, pred.chain_id, int(pred.res_seq[k]), pred.comp_id[k], pred.atom_id[k],
+            rows.append([name, pred.chain_id, int(pred.res_seq[k]), icode[k], pred.comp_id[k], pred.atom_id[k],
                          pred.nucleus[k], "" if v != v else f"{v:.3f}",
                          *[f"{pred.terms[t][m, k]:.3f}" for t in TERMS]])
     return header, rows
-
-
-def _write_atomic(path: str, text: str) -> None:
-    from ..errors import OutputError
-
-    d = os.path.dirname(os.path.abspath(path))
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=".predict-", suffix=".tmp", dir=d)
-    except OSError as exc:
-        raise OutputError(f"cannot write here ({exc.strerror})", path=path) from None
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
 
 
 def run(args) -> int:
@@ -71,6 +56,13 @@ def run(args) -> int:
     from ..predict.model import Predictor
     from ..shiftlist import SampleConditions
 
+    from ..report.atomic import atomic_write_text, check_output_file
+
+    from ._options import check_predict_options
+
+    check_predict_options(args)
+    if args.output:                 # before any work: not a directory, not an input, writable
+        check_output_file(args.output, [*args.models, args.params], "output CSV")
     predictor = Predictor(args.params, args.ring_model)
     cond = SampleConditions(temperature_K=args.temperature, pH=args.ph)
     buf = io.StringIO()
@@ -78,7 +70,7 @@ def run(args) -> int:
     first = True
     for ens in read_models(args.models, chain=args.chain):
         pred = predictor.predict(ens, cond)
-        header, rows = prediction_rows(pred)
+        header, rows = prediction_rows(pred, ens.res_icode[pred.res_index])
         if first:
             writer.writerow(header)
             first = False
@@ -87,7 +79,7 @@ def run(args) -> int:
             print(f"# {ens.name}: chain {ens.chain_id}, {ens.n_models} model(s), {len(pred)} atoms, "
                   f"ring model {predictor.ring_model}")
     if args.output:
-        _write_atomic(args.output, buf.getvalue())
+        atomic_write_text(args.output, buf.getvalue())
         print(f"wrote {args.output}")
         return 0
     buf.seek(0)
@@ -95,6 +87,6 @@ def run(args) -> int:
     widths = [max(len(r[i]) for r in rd) for i in range(len(rd[0]))]
     out = sys.stdout
     for r in rd:
-        out.write("  ".join(c.rjust(w) if i >= 6 or i == 2 else c.ljust(w)
+        out.write("  ".join(c.rjust(w) if i >= 7 or i == 2 else c.ljust(w)
                             for i, (c, w) in enumerate(zip(r, widths))).rstrip() + "\n")
     return 0

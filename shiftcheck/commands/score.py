@@ -66,6 +66,9 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("--no-mean", action="store_true",
                    help="do not score the ensemble-mean prediction (name#mean)")
     p.add_argument("--force", action="store_true", help="write into a non-empty OUTDIR")
+    p.add_argument("--strict", action="store_true",
+                   help="stop with an error at the first model that would be skipped "
+                        "(unreadable, no protein chain, another sequence) instead of going on")
     p.add_argument("--quiet", action="store_true", help="no console summary, no progress bar")
     p.add_argument("--json", action="store_true",
                    help="print summary.json's ranking and offsets as one JSON object on stdout "
@@ -104,6 +107,7 @@ def run(args) -> int:
     from ..pipeline import score_files
     from ..report.console import console_summary
     from ..report.outdir import check_outdir
+    from ._options import check_score_options, check_show
 
     from ..gates import finish, parse_conditions
 
@@ -114,17 +118,22 @@ def run(args) -> int:
         bad = [f for f in args.plots.split(",") if f.strip() and f.strip().lower() not in PLOT_FORMATS]
         if bad:
             raise InputError(f"--plots: unknown plot format '{bad[0]}' (choose from {', '.join(PLOT_FORMATS)})")
-    if args.min_identity is not None and not 0.0 < args.min_identity <= 1.0:
-        raise InputError(f"--min-identity must lie in (0, 1], got {args.min_identity:g}")
+    check_score_options(args)
     if args.temperature is not None and not 200.0 <= args.temperature <= 400.0:
         raise InputError(f"--temperature is in kelvin and must lie in 200..400, got {args.temperature:g}")
     if args.ph is not None and not 0.0 <= args.ph <= 14.0:
         raise InputError(f"--ph must lie in 0..14, got {args.ph:g}")
     check_outdir(args.outdir, args.force, inputs)        # fail early, before the work
+
+    def on_models(ensembles, skipped):
+        check_show(args.show if not args.no_report else [], ensembles)
+        for s in skipped:
+            print(f"shiftcheck: warning: {s.file}: skipped: {s.reason}", file=sys.stderr)
+
     res = score_files(args.shifts, args.models, list_id=args.list_id, entity_id=args.entity,
-                      chain=args.chain, temperature=args.temperature, ph=args.ph,
-                      params=args.params, ring_model=args.ring_model, reref=args.reref,
-                      k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
+                      chain=args.chain, temperature=args.temperature, ph=args.ph, strict=args.strict,
+                      on_models=on_models, params=args.params, ring_model=args.ring_model,
+                      reref=args.reref, k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
                       include_mean=not args.no_mean, min_identity=args.min_identity,
                       progress=_Progress(args.quiet))
     write_outputs(res, args.outdir, force=args.force, inputs=inputs, report=not args.no_report,

@@ -24,6 +24,7 @@ from ..chem.residues import AA20, HEAVY_ATOMS
 from ..errors import InputError, ShiftcheckError
 from ..structure.ensemble import Ensemble
 from ._coord_notes import note_dropped, note_missing
+from .pdb_repair import repair_pdb_columns
 from .textfile import read_text_file
 
 __all__ = ["read_models", "read_model_file"]
@@ -81,9 +82,15 @@ def read_model_file(path: str | os.PathLike, chain: str | None = None) -> Ensemb
     """Read one file into an :class:`Ensemble` (no hydrogens added). See :func:`read_models`."""
     path = str(path)
     text = _read_text(path)
+    repairs: list[str] = []
+    if not _is_cif(text):             # malformed charge/element/occupancy/B columns
+        text, repairs = repair_pdb_columns(text)
     st = _parse(text, path)
     try:
-        return _to_ensemble(st, path, chain)
+        ens = _to_ensemble(st, path, chain)
+        ens.warnings[:0] = [f"repaired: {r}" for r in repairs] + (
+            ["blank chain ID: read as chain '' (select it with --chain '')"] if ens.chain_id == "" else [])
+        return ens
     except ShiftcheckError:
         raise
     except Exception as exc:  # defensive: gemmi objects from odd input
@@ -257,7 +264,7 @@ def _extract(model, chain_id: str, notes: dict) -> tuple[list, list, list]:
                     notes.setdefault("duplicate atoms", set()).add(f"{name} {rk[0]}{rk[1]} {an}")
                     continue
                 names_here.add(an)
-                el = "S" if (orig == "MSE" and an == "SD") else (a[3] or an[:1])
+                el = "S" if (orig == "MSE" and an == "SD") else (a[3] if a[3] not in ("", "X") else an[:1])
                 atom_keys.append((ri, an, el.upper()))
                 raw.append(a[4])
     return res_keys, atom_keys, raw

@@ -96,13 +96,14 @@ def read_shifts(path: str | os.PathLike, list_id: str | None = None,
     Parameters
     ----------
     path : path-like
-        NMR-STAR 3.x, NMR-STAR 2.1 or plain table; ``.gz`` (or gzip content) accepted.
+        NMR-STAR 3.x, NMR-STAR 2.1 (also bare save frames, fragments without ``data_`` and
+        preambles before it), NEF or plain table; ``.gz`` (or gzip content) accepted.
     list_id : str, optional
-        Which assigned shift list (ID or save frame name). Default: the only one, else the
-        largest, with a warning naming the others.
+        Which assigned shift list (ID or save frame name; NEF: save frame name). Default:
+        the only one, else the largest, with a warning naming the others.
     entity_id : str, optional
-        Which entity (Entity_ID, Entity_assembly_ID, or 2.1 component name). Default: the
-        entity with most shifts, with a warning.
+        Which entity (Entity_ID, Entity_assembly_ID, 2.1 component name, or NEF chain
+        code). Default: the entity with most shifts, with a warning.
 
     Returns
     -------
@@ -117,8 +118,13 @@ def read_shifts(path: str | os.PathLike, list_id: str | None = None,
     p = str(path)
     text = read_text(p)
     fmt = _format_of(text)
+    from .star_fragments import normalise_star_text
+
+    text, notes = normalise_star_text(text, fmt.name)     # bare save frames, fragments, preambles
     try:
-        return fmt.read(text, p, list_id=list_id, entity_id=entity_id)
+        shifts = fmt.read(text, p, list_id=list_id, entity_id=entity_id)
+        shifts.warnings[:0] = notes
+        return shifts
     except RecursionError:  # pragma: no cover - pathological nesting
         raise InputError("file structure too deeply nested to read", path=p) from None
 

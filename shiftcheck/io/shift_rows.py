@@ -2,10 +2,12 @@
 
 Whatever the format, a reader hands its string columns to :func:`build_shift_list`, which
 normalises names (IUPAC 1998, Markley et al. 1998, Pure Appl. Chem. 70:117), expands pseudo
-atoms, skips placeholder values ('.', '?') with a warning and refuses non-numeric values and
-values outside -10..300 ppm (no protein 1H, 13C or 15N shift lies outside; common practice, no
-source) with the file line. :func:`choose` picks one of several lists or entities and
-:func:`conditions_from_rows` reads temperature and pH.
+atoms, skips missing values ('.', '?') with a warning, refuses non-numeric values with the file
+line, and sets aside placeholder values (999.99, 9999.0, 0.0 ... and anything outside -10..300
+ppm; listed with their source in shiftcheck/data/shift_ranges.json ``placeholders``) in
+``ShiftList.placeholders``: they are left out of the comparison and reported by the data checks
+with their line, never a refusal of the list. :func:`choose` picks one of several lists or
+entities and :func:`conditions_from_rows` reads temperature and pH.
 """
 from __future__ import annotations
 
@@ -21,8 +23,16 @@ from ..shiftlist import SampleConditions, ShiftList
 
 __all__ = ["build_shift_list", "choose", "conditions_from_rows", "one_letter_sequence", "VALUE_RANGE_PPM"]
 
-#: Plausible numeric window for any protein shift, ppm (common practice, no source).
-VALUE_RANGE_PPM = (-10.0, 300.0)
+def _placeholder_table() -> tuple[tuple[float, float], frozenset]:
+    from ..score._constants import shift_ranges
+
+    t = shift_ranges()["placeholders"]
+    return ((float(t["outside_ppm"]["low"]), float(t["outside_ppm"]["high"])),
+            frozenset(float(v) for v in t["values"]))
+
+
+#: Plausible numeric window for any protein shift, ppm (shift_ranges.json placeholders.outside_ppm).
+VALUE_RANGE_PPM = _placeholder_table()[0]
 _MISSING = {"", ".", "?", "-", "na", "n/a", "nan", "none"}
 
 
@@ -105,7 +115,8 @@ def build_shift_list(path: str, cols: dict[str, list[str] | None], lines: list[i
     get = {k: (v if v is not None else [None] * n) for k, v in cols.items()}
     lines = list(lines) + [0] * (n - len(lines))
     rows = []  # (seq, auth, comp, raw_atom, type, value, err, amb, line)
-    missing = []
+    missing, placeholders = [], []
+    (lo, hi), ph_values = _placeholder_table()
     for i in range(n):
         ln = lines[i]
         vs = str(get["value"][i]).strip()
@@ -116,9 +127,6 @@ def build_shift_list(path: str, cols: dict[str, list[str] | None], lines: list[i
             val = float(vs)
         except ValueError:
             raise InputError(f"shift value {vs[:20]!r} is not a number", path=path, line=ln) from None
-        if not (VALUE_RANGE_PPM[0] <= val <= VALUE_RANGE_PPM[1]):
-            raise InputError(f"shift value {vs[:20]} ppm is outside {VALUE_RANGE_PPM[0]:g}.."
-                             f"{VALUE_RANGE_PPM[1]:g} ppm", path=path, line=ln)
         s_raw = get["seq_id"][i]
         a_raw = get["auth_seq_id"][i]
         if s_raw is None or str(s_raw).strip() in _MISSING:
@@ -140,21 +148,34 @@ def build_shift_list(path: str, cols: dict[str, list[str] | None], lines: list[i
         except (ValueError, OverflowError):
             amb = 0
         typ = str(get["atom_type"][i]).strip().upper() if get["atom_type"][i] is not None else ""
+        if not (lo <= val <= hi) or val in ph_values:
+            placeholders.append({"seq_id": seq, "comp_id": comp, "atom_id": atom, "value": val,
+                                 "line": ln})
+            continue
         rows.append((seq, auth, comp, atom, typ, val, err, amb, ln))
     if not rows:
+        if placeholders:
+            raise InputError(f"all {len(placeholders)} shift values are placeholders (e.g. "
+                             f"{placeholders[0]['value']:g} ppm) or missing", path=path,
+                             line=placeholders[0]["line"])
         if missing:
             raise InputError(f"all {len(missing)} shift values are missing ('.' or '?')", path=path)
         raise InputError("the shift list is empty", path=path)
     if missing:
         warnings.append(f"{len(missing)} rows without a shift value ('.' or '?') skipped "
                         f"(first at line {missing[0]})")
+    if placeholders:
+        p0 = placeholders[0]
+        warnings.append(f"{len(placeholders)} placeholder values left out of the comparison (first "
+                        f"{p0['comp_id']} {p0['seq_id']} {p0['atom_id']} = {p0['value']:g} ppm at "
+                        f"line {p0['line']}; see the data checks)")
     # names per residue (old geminal numbering and pseudo atoms need the residue's whole set)
     by_res: dict[tuple[int, str], list[int]] = defaultdict(list)
     for k, r in enumerate(rows):
         by_res[(r[0], r[2])].append(k)
     expanded: list[tuple] = []
-    seen: dict[tuple[int, str], int] = {}
-    dups = []
+    seen: dict[tuple[int, str], tuple[int, float]] = {}
+    dups, dup_rows = [], []
     for (seq, comp), idx in by_res.items():
         names = expand_residue_atom_names(comp, [rows[k][3] for k in idx])
         for k, group in zip(idx, names):
@@ -162,9 +183,12 @@ def build_shift_list(path: str, cols: dict[str, list[str] | None], lines: list[i
             for atom in group:
                 key = (seq, atom)
                 if key in seen:
-                    dups.append(f"{comp} {seq} {atom} (lines {seen[key]}, {r[8]})")
+                    dups.append(f"{comp} {seq} {atom} (lines {seen[key][0]}, {r[8]})")
+                    dup_rows.append({"seq_id": seq, "comp_id": comp, "atom_id": atom,
+                                     "kept": seen[key][1], "dropped": r[5],
+                                     "lines": [seen[key][0], r[8]]})
                     continue
-                seen[key] = r[8]
+                seen[key] = (r[8], r[5])
                 typ = r[4] if r[4] and r[4] not in _MISSING and len(group) == 1 else atom[:1]
                 expanded.append((seq, r[1], comp, atom, typ, r[5], r[6], r[7], r[8]))
     if dups:
@@ -181,7 +205,8 @@ def build_shift_list(path: str, cols: dict[str, list[str] | None], lines: list[i
         atom_type=np.asarray(arr[4], dtype=str), value=np.asarray(arr[5], dtype=np.float64),
         error=np.asarray(arr[6], dtype=np.float64), ambiguity=np.asarray(arr[7], dtype=np.int64),
         line=np.asarray(arr[8], dtype=np.int64), conditions=conditions,
-        other_lists=list(other_lists), warnings=warnings)
+        other_lists=list(other_lists), warnings=warnings, placeholders=placeholders,
+        duplicates=dup_rows)
 
 
 def _sequence(sequence, seq_of_rows, comp_of_rows, path, warnings):

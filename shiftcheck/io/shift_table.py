@@ -20,6 +20,9 @@ One shift per line; columns separated by whitespace or by commas::
 * ``#`` starts a comment (whole line or the rest of a line); blank lines are ignored.
 * A shift written ``.`` or ``?`` is skipped with a warning.
 * The sequence is rebuilt from the rows (residues without shifts become ``UNK``).
+* Rows of an NMR-STAR 2.1 shift loop without its tags (``ID seq residue atom type shift error
+  ambiguity``, as copied out of an entry) are recognised by their first row (two integers, a
+  residue code, an atom name, an element letter, a number) and read with a note.
 """
 from __future__ import annotations
 
@@ -79,6 +82,17 @@ def _is_number(s: str) -> bool:
         return False
 
 
+#: Column positions of headerless NMR-STAR 2.1 loop rows: ID seq residue atom type shift error amb.
+STAR21_ROW_COLUMNS = {"seq_id": 1, "comp_id": 2, "atom_id": 3, "value": 5, "error": 6}
+
+
+def _star_rows(f: list[str]) -> bool:
+    """True for a headerless NMR-STAR 2.1 loop row (ID seq residue atom type shift ...)."""
+    return (len(f) >= 7 and f[0].isdigit() and f[1].lstrip("-").isdigit() and f[2].isalpha()
+            and len(f[2]) >= 1 and f[4].isalpha() and len(f[4]) <= 2 and _is_number(f[5])
+            and not _is_number(f[3]))
+
+
 def read_table(text: str, path: str, list_id: str | None = None, entity_id: str | None = None):
     """Read a plain shift table (see module docstring for the format) into a ShiftList.
 
@@ -95,10 +109,15 @@ def read_table(text: str, path: str, list_id: str | None = None, entity_id: str 
     header_seen = False
     data: dict[str, list[str]] = {k: [] for k in TABLE_COLUMNS}
     lines: list[int] = []
+    warnings: list[str] = []
     for ln, raw in enumerate(text.splitlines(), start=1):
         f = _fields(raw)
         if not f:
             continue
+        if not header_seen and not lines and _star_rows(f):
+            cols, header_seen = dict(STAR21_ROW_COLUMNS), True
+            warnings.append(f"line {ln}: rows read as NMR-STAR 2.1 shift-loop rows without tags "
+                            "(ID, seq, residue, atom, type, shift, error, ambiguity)")
         if not header_seen and not lines and not _is_number(f[0]):
             hm = _header_map(f)
             if hm is None:
@@ -132,4 +151,4 @@ def read_table(text: str, path: str, list_id: str | None = None, entity_id: str 
     colmap = dict(data, auth_seq_id=None, atom_type=None, ambiguity=None)
     return build_shift_list(path, colmap, lines, list_id="1", list_name="", entity_id="1",
                             sequence=None, conditions=SampleConditions(), other_lists=[],
-                            warnings=[])
+                            warnings=warnings)

@@ -56,4 +56,4 @@ def read_text_file(path, kind: str) -> str:
         if bad > max(2, len(text) // 100):
             raise InputError(f"binary content (neither UTF-8 nor Latin-1 text), expected a {kind}",
                              path=path) from None
-    return text.replace("\r\n", "\n").replace("\r", "\n")
+    return text.lstrip("\ufeff").replace("\r\n", "\n").replace("\r", "\n")   # BOM, CRLF

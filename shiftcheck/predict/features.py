@@ -170,7 +170,7 @@ class StructureFeatures:
         """Design matrix of one nucleus class.
 
         Returns (names, groups_of_columns, X (n_models, n_sel, k), selected target indices).
-        With ``names`` given, the columns are returned in that order (missing ones raise KeyError).
+        With ``names`` given, the columns are returned in that order (unknown ones raise ParameterError).
         ``conformation`` is the ``conformation`` setting (dict with the Fourier orders ``order``,
         ``class_order`` and optionally ``neighbours``, ``chi1``; see
         :func:`shiftcheck.predict.conformation.conformation_features`) or just the two orders.
@@ -226,7 +226,10 @@ class StructureFeatures:
                 X[:, :, k] = cols[n][1]
             else:  # an indicator never seen in this protein is 0, anything else is an error
                 if not n.startswith(("res:", "prev:", "next:")):
-                    raise KeyError(n)
+                    from ..errors import ParameterError
+
+                    raise ParameterError(f"unknown feature column {n!r} for nucleus {nucleus} "
+                                         f"(groups {', '.join(groups)}; not computed by this version)")
                 grp.append("offset" if n.startswith("res:") else "neighbour")
         return list(names), grp, X, sel
 

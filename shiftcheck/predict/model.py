@@ -89,8 +89,11 @@ class Predictor:
             if not names:
                 continue
             conf = self.params.get("conformation", {})
-            _, grp, X, sel = sf.matrix(nuc, names, groups, self.ring_model, conf,
-                                      self.params.get("burial"))
+            try:
+                _, grp, X, sel = sf.matrix(nuc, names, groups, self.ring_model, conf,
+                                          self.params.get("burial"))
+            except ParameterError as exc:     # name the parameter file
+                raise ParameterError(exc.message, path=exc.path or self.params.get("_path")) from None
             w = np.asarray(block["values"], float)
             grp = np.asarray(grp)
             for g in np.unique(grp):
@@ -99,6 +102,7 @@ class Predictor:
             predicted[sel] = True
         values = sum(terms.values())
         values[:, ~predicted] = np.nan
+        values[np.isnan(ens.coords[:, t.atom_index, 0])] = np.nan   # atom absent from that model
         return Prediction(ensemble_name=ens.name, model_names=list(ens.model_names),
                           chain_id=ens.chain_id, res_index=t.res_index.copy(),
                           res_seq=np.asarray(ens.res_seq)[t.res_index], comp_id=t.comp_id.astype(str),

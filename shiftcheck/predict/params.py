@@ -25,7 +25,6 @@ from __future__ import annotations
 import copy
 import json
 import os
-import tempfile
 from pathlib import Path
 
 from ..datafiles import data_path
@@ -140,13 +139,6 @@ def save_params(params: dict, path: str | os.PathLike) -> None:
     clean = {k: v for k, v in params.items() if not k.startswith("_")}
     if clean["random_coil"] == load_table():            # stored once: refer to the shipped table
         clean["random_coil"] = dict(_RC_REFERENCE)
-    fd, tmp = tempfile.mkstemp(prefix=".params-", suffix=".tmp", dir=path.parent or ".")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            json.dump(clean, fh, indent=1, sort_keys=False)
-            fh.write("\n")
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    from ..report.atomic import atomic_write_text
+
+    atomic_write_text(path, json.dumps(clean, indent=1, sort_keys=False) + "\n")

@@ -18,7 +18,7 @@ def console_summary(res: ScoreResult, outdir: str | None = None, top: int = 10) 
     comp, rk = res.comparison, res.ranking
     lines = [f"Shifts: {res.shifts.source} ({len(comp)} atoms on {comp.n_residues} residues compared)"]
     for ens, m in zip(res.ensembles, res.mappings):
-        lines.append(f"  {ens.name}: chain {ens.chain_id}, {ens.n_models} model(s), identity "
+        lines.append(f"  {ens.name}: chain {ens.chain_id or '(blank)'}, {ens.n_models} model(s), identity "
                      f"{m.identity:.2f}, coverage {m.coverage:.2f}")
     lines.append("")
     lines.append(f"Referencing offsets (measured - predicted, ppm; --reref {res.parameters['reref']}):")
@@ -42,7 +42,7 @@ def console_summary(res: ScoreResult, outdir: str | None = None, top: int = 10) 
         if n >= 30:
             lines.append(f"  ... {len(rk.order) - 30} more in ranking.csv")
             break
-        rms = " ".join(f"{res.metrics[x]['rmsd'][i]:5.2f}" if res.metrics[x]["n"] else "    -"
+        rms = " ".join(f"{res.metrics[x]['rmsd'][i]:5.2f}" if np.isfinite(res.metrics[x]["rmsd"][i]) else "    -"
                        for x in BACKBONE)
         mark = "*" if rk.best_group[i] else " "
         lines.append(f"  {rk.rank[i]:>4}{mark}{comp.entries[i].name[:24]:<24} {rk.score[i]:6.2f} "
@@ -70,9 +70,18 @@ def console_summary(res: ScoreResult, outdir: str | None = None, top: int = 10) 
         lines.append(f"  {f.seq_id:>5} {f.comp_id} {f.atom_id}: [{f.rule}] {f.message}")
     if res.warnings:
         lines.append(f"Warnings: {len(res.warnings)} (see summary.json)")
+    for name, a in list(comp.absent.items())[:top]:
+        lines.append(f"  {name}: lacks {a['n_absent']} of the {len(comp)} compared atoms; scored on its "
+                     f"other {a['n_compared']}")
     left = sum(comp.left_out.values())
     if left:
         lines.append(f"Left out of the comparison: {left} shifts (see summary.json left_out)")
+    skipped = getattr(res, "skipped", [])
+    if skipped:
+        lines.append(f"Skipped models: {len(skipped)} (not scored; see summary.json skipped)")
+        lines += [f"  {s.file}: {s.reason}" for s in skipped[:top]]
+        if len(skipped) > top:
+            lines.append(f"  ... {len(skipped) - top} more")
     if outdir:
         lines.append(f"Output: {outdir}")
     return "\n".join(lines)

@@ -154,7 +154,6 @@ def write_corrected_star(res, outdir: str | os.PathLike) -> Path | None:
             "# (original values in _Atom_chem_shift.Details; offsets and 95% intervals in\n"
             "# save_chem_shift_reference_1). Agreement with predicted shifts supports a\n"
             "# referencing correction but does not prove it: check the spectrometer referencing.\n")
-    tmp = path.with_name(f".{FILE_NAME}.tmp")
-    tmp.write_text(head + str(corrected_entry(res)), encoding="utf-8")
-    os.replace(tmp, path)
-    return path
+    from .atomic import atomic_write_text
+
+    return atomic_write_text(path, head + str(corrected_entry(res)))

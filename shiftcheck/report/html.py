@@ -10,8 +10,6 @@ name and renamed into place, so a reader never sees half a file.
 from __future__ import annotations
 
 import json
-import os
-import tempfile
 from importlib import resources
 from pathlib import Path
 
@@ -78,18 +76,10 @@ def write_html(outdir, show=(), max_point_models: int = MAX_POINT_MODELS) -> Pat
     outdir = Path(outdir)
     text = render_html(load_outdir(outdir), show, max_point_models)
     final = outdir / "report.html"
-    tmp = None
+    from .atomic import atomic_write_text
+
     try:
-        fd, name = tempfile.mkstemp(prefix=".tmp-report-", suffix=".html", dir=outdir)
-        tmp = Path(name)
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-        mask = os.umask(0)
-        os.umask(mask)
-        os.chmod(tmp, 0o666 & ~mask)      # mkstemp makes 0600; give the usual permissions
-        os.replace(tmp, final)
+        atomic_write_text(final, text)
     except OSError as exc:
-        if tmp is not None:
-            tmp.unlink(missing_ok=True)
         raise OutputError(f"cannot write the report page: {exc.strerror or exc}", path=outdir) from None
     return final

@@ -61,6 +61,12 @@ def _lines(data: ReportData) -> list[tuple[str, str]]:
         out.append(("m", f"        ... and {len(models) - 12} more files (summary.json)"))
     if not sh and not models:
         out.append(("t", "(summary.json lists no inputs)"))
+    skipped = [x for x in (s.get("skipped") or []) if isinstance(x, dict)]
+    if skipped:
+        out.append(("h", f"Skipped models ({len(skipped)}, not scored)"))
+        out += [("m", _short(f"{_base(x.get('file'))}: {x.get('reason')}", 110)) for x in skipped[:6]]
+        if len(skipped) > 6:
+            out.append(("m", f"        ... and {len(skipped) - 6} more (summary.json skipped)"))
     out.append(("h", "Mapping of shift list to models"))
     for m in (s.get("mapping") or [])[:8]:
         if isinstance(m, dict):

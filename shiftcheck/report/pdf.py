@@ -18,13 +18,12 @@ from ..errors import InputError, OutputError
 from . import figures as fg
 from . import pages
 from . import style as st
+from .atomic import umask
 from .load import ReportData, load_outdir
 
 __all__ = ["write_report", "report_figures", "PLOT_FORMATS"]
 
 PLOT_FORMATS = ("png", "svg")
-_UMASK = os.umask(0o022)
-os.umask(_UMASK)
 _OWN_PLOT = re.compile(r"^(ranking|correlation_.+|sequence|referencing|flags_\d+)\.(png|svg)$")
 
 
@@ -72,7 +71,7 @@ def report_figures(data: ReportData, show=()) -> list[tuple[str, object]]:
 def _tmp(directory: Path, suffix: str) -> Path:
     fd, name = tempfile.mkstemp(prefix=".tmp-report-", suffix=suffix, dir=directory)
     os.close(fd)
-    os.chmod(name, 0o666 & ~_UMASK)   # mkstemp makes 0600; give the usual permissions
+    os.chmod(name, 0o666 & ~umask())   # mkstemp makes 0600; give the usual permissions
     return Path(name)
 
 

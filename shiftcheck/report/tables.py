@@ -12,7 +12,6 @@ import itertools
 import json
 import math
 import os
-import tempfile
 from pathlib import Path
 from typing import TYPE_CHECKING
 
@@ -54,18 +53,9 @@ def _num(x, nd: int = 4):
 
 
 def _atomic_write(path: Path, text: str) -> None:
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", dir=str(path.parent))
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
-        mask = os.umask(0)
-        os.umask(mask)
-        os.chmod(tmp, 0o666 & ~mask)          # mkstemp makes 0600; give the usual permissions
-        os.replace(tmp, path)
-    except BaseException:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
-        raise
+    from .atomic import atomic_write_text
+
+    atomic_write_text(path, text)
 
 
 def ranking_rows(res: ScoreResult) -> list[dict]:
@@ -229,6 +219,7 @@ def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
         "secondary_structure": res.secondary,
         "left_out": left,
         "warnings": list(res.warnings),
+        "skipped": [{"file": str(x.file), "reason": str(x.reason)} for x in getattr(res, "skipped", [])],
         "parameters": dict(res.parameters),
     }
 

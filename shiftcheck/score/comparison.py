@@ -1,9 +1,12 @@
 """The common atom set: the (residue, atom) pairs every scored model is compared on.
 
-A shift enters the comparison only when it is measured, belongs to a scored nucleus class
-(:func:`shiftcheck.chem.nuclei.nucleus_class`), its residue maps onto every ensemble with the same
-residue type, and every model of every ensemble predicts it (non-NaN). Everything else is counted
-per reason in :attr:`Comparison.left_out`.
+A shift enters the comparison when it is measured, belongs to a scored nucleus class
+(:func:`shiftcheck.chem.nuclei.nucleus_class`) and at least one model predicts it. Models are compared
+atom by atom on what each has: where a model lacks the residue (not mapped, another residue type)
+or the atom (a gap, a CA-only model, no side chains), its prediction is NaN and that model is
+scored on the remaining atoms - one poor model no longer shrinks every other model's set
+(:attr:`Comparison.absent` says which models lack what). Everything else is counted per reason
+in :attr:`Comparison.left_out`.
 
 Groups of equivalent protons (documented in docs/outputs.md):
 
@@ -28,6 +31,7 @@ terminus to leave out (:func:`shiftcheck.chem.nuclei.entity_ends`).
 """
 from __future__ import annotations
 
+import warnings
 from collections import Counter
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING
@@ -107,6 +111,9 @@ class Comparison:
     entries : list of Entry
     left_out : dict reason -> count (shift-list atoms)
     left_out_examples : dict reason -> list of short labels (at most 10 each)
+    absent : dict model name -> {'n_absent', 'n_compared', 'reasons'}
+        Models that lack some compared atoms (missing residues, no side chains, CA only ...):
+        ``predicted`` is NaN there for that model only, and it is scored on the rest.
     """
 
     seq_id: np.ndarray
@@ -121,6 +128,7 @@ class Comparison:
     entries: list[Entry]
     left_out: dict[str, int] = field(default_factory=dict)
     left_out_examples: dict[str, list[str]] = field(default_factory=dict)
+    absent: dict[str, dict] = field(default_factory=dict)   # model -> atoms it lacks (NaN there)
 
     def __len__(self) -> int:
         return int(self.measured.shape[0])
@@ -179,6 +187,8 @@ def build_comparison(shifts: ShiftList, ensembles: Sequence[Ensemble], mappings:
     groups: dict[tuple[int, str], dict] = {}
     seen: set[tuple[int, str]] = set()
     ends = entity_ends(shifts, ensembles, [mp.seq_to_res for mp in mappings])
+    for p in getattr(shifts, "placeholders", ()):      # set aside by the reader
+        leave("placeholder or missing value", f"{p['seq_id']} {p['comp_id']} {p['atom_id']}")
     for sid, comp, atom, val, amb in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id, shifts.value,
                                          shifts.ambiguity):
         sid, comp, atom = int(sid), str(comp), str(atom)
@@ -217,44 +227,50 @@ def build_comparison(shifts: ShiftList, ensembles: Sequence[Ensemble], mappings:
                 mem = mem + _members(c, other)
         members.append(mem)
 
-    # --- predictions per ensemble ----------------------------------------------------
-    keep = np.ones(len(keys), dtype=bool)
-    blocks, entries = [], []
+    # --- predictions per ensemble: an atom a model lacks is NaN for that model only ---------
+    blocks, entries, absent = [], [], []
     for ei, (ens, mp, pred) in enumerate(zip(ensembles, mappings, predictions)):
         col = {(int(r), str(a)): j for j, (r, a) in enumerate(zip(pred.res_index, pred.atom_id))}
         vals = np.full((pred.n_models, len(keys)), np.nan)
+        why = np.full(len(keys), "coordinates absent from this model", dtype=object)
         for i, ((sid, g), c, mem) in enumerate(zip(keys, comp, members)):
-            if not keep[i]:
-                continue
             res = mp.seq_to_res.get(sid)
-            label = f"{sid} {c} {g}"
             if res is None:
-                keep[i] = False
-                leave("residue not in every model", label, count[i])
+                why[i] = "residue not in the model"
                 continue
             if str(ens.res_name[res]) != c:
-                keep[i] = False
-                leave("residue type differs in a model", label, count[i])
+                why[i] = "residue type differs"
                 continue
             js = [col[(res, m)] for m in mem if (res, m) in col]
             if not js:
-                keep[i] = False
-                leave("not predicted", label, count[i])
+                why[i] = "atom not in the model"
                 continue
-            v = pred.values[:, js].mean(axis=1)
-            if not np.all(np.isfinite(v)):
-                keep[i] = False
-                leave("not predicted in every model", label, count[i])
-                continue
-            vals[:, i] = v
+            with np.errstate(invalid="ignore"):
+                vals[:, i] = pred.values[:, js].mean(axis=1)
         names = list(pred.model_names) or [f"{ens.name}#{k + 1}" for k in range(pred.n_models)]
         for m in range(pred.n_models):
             entries.append(Entry(names[m], ei, m, ens.chain_id))
+            absent.append(why)
         blocks.append(vals)
         if include_mean and pred.n_models > 1:
             entries.append(Entry(f"{ens.name}#mean", ei, -1, ens.chain_id))
-            blocks.append(vals.mean(axis=0, keepdims=True))
-    predicted = np.vstack(blocks)[:, keep] if blocks else np.zeros((0, int(keep.sum())))
+            with np.errstate(invalid="ignore"), warnings.catch_warnings():
+                warnings.simplefilter("ignore", RuntimeWarning)
+                blocks.append(np.nanmean(vals, axis=0, keepdims=True))
+            absent.append(None)
+    allv = np.vstack(blocks) if blocks else np.zeros((0, len(keys)))
+    keep = np.isfinite(allv).any(axis=0) if blocks else np.zeros(len(keys), dtype=bool)
+    for i in np.flatnonzero(~keep):
+        (sid, g), c = keys[i], comp[i]
+        leave("not predicted in any model", f"{sid} {c} {g}", count[i])
+    n_kept = int(keep.sum())
+    per_entry = {}
+    for k, (e, why) in enumerate(zip(entries, absent)):
+        gone = keep & ~np.isfinite(allv[k])
+        if why is not None and gone.any():
+            per_entry[e.name] = {"n_absent": int(gone.sum()), "n_compared": n_kept - int(gone.sum()),
+                                 "reasons": dict(Counter(why[gone].tolist()))}
+    predicted = allv[:, keep]
     sel = [k for k, ok in zip(keys, keep) if ok]
     seq = np.array([k[0] for k in sel], dtype=int)
     _, residue = np.unique(seq, return_inverse=True)
@@ -263,7 +279,7 @@ def build_comparison(shifts: ShiftList, ensembles: Sequence[Ensemble], mappings:
                       nucleus=cls, isotope=np.array([c[0] for c in cls], dtype=object),
                       measured=meas[keep], ambiguous=amb[keep], residue=residue.astype(int),
                       predicted=predicted, entries=entries, left_out=dict(left),
-                      left_out_examples=examples)
+                      left_out_examples=examples, absent=per_entry)
 
 
 def resolve_stereo(comp: Comparison) -> int:

@@ -11,19 +11,21 @@ Rules (tables and sources in shiftcheck/data/shift_ranges.json):
   This handles Ser and Thr, whose CB lies above CA, without special cases.
 * ``cis_pro`` - Pro CB-CG > 7 ppm suggests a cis Xaa-Pro bond (Schubert et al. 2002).
   With models: compared with the model's omega.
+* ``duplicate`` (from the reader's repeats), ``unknown_atom``, ``residue_conflict`` - see
+  :mod:`shiftcheck.score.datacheck_rows`.
 * ``cys_redox`` - Cys CB < 32 ppm suggests reduced, > 35 ppm oxidised (Sharma & Rajarathnam
   2000). With models: compared with the model's disulfides (SG-SG < 2.5 A); a finding only when
   they disagree (without models, a note on the state read from the shifts).
 """
 from __future__ import annotations
 
-from dataclasses import asdict, dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
 
 from ..chem.nuclei import entity_ends, nucleus_class
 from ._constants import shift_ranges
+from .findings import Finding
 
 if TYPE_CHECKING:
     from collections.abc import Sequence
@@ -32,23 +34,6 @@ if TYPE_CHECKING:
     from ..structure.mapping import Mapping
 
 __all__ = ["Finding", "check_shifts", "check_against_models"]
-
-
-@dataclass
-class Finding:
-    """One data-check result."""
-
-    seq_id: int
-    comp_id: str
-    atom_id: str
-    rule: str
-    message: str
-    source: str
-    severity: str = "warning"   # 'warning' or 'note'
-    state: str = ""             # cis/trans or reduced/oxidised/uncertain where the rule reads one
-
-    def as_dict(self) -> dict:
-        return asdict(self)
 
 
 def _srcs() -> dict:
@@ -70,6 +55,14 @@ def check_shifts(shifts: ShiftList) -> list[Finding]:
     per_res: dict[int, dict[str, float]] = {}
     comp_of: dict[int, str] = {}
     first_seq = entity_ends(shifts)[0]   # its N is a free amine (about 30-40 ppm), not an amide
+    from .datacheck_rows import check_rows
+
+    out += check_rows(shifts)                          # repeats, unknown atoms, residue conflicts
+    for p in getattr(shifts, "placeholders", ()):     # set aside by the reader
+        out.append(Finding(int(p["seq_id"]), str(p["comp_id"]), str(p["atom_id"]), "placeholder",
+                           f"line {p['line']}: {p['atom_id']} = {p['value']:g} ppm looks like a "
+                           "placeholder, not a measurement; left out of the comparison",
+                           src["placeholder"]))
     for sid, comp, atom, iso, val in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id,
                                          shifts.atom_type, shifts.value):
         sid, comp, atom, val = int(sid), str(comp), str(atom), float(val)
@@ -160,12 +153,18 @@ def check_against_models(findings: list[Finding], ensembles: Sequence[Ensemble],
                     sg_idx = np.flatnonzero(ens.res_name == "CYS")
                     cache[("sg", i)] = (sg_idx, ens.xyz(sg_idx, "SG"))
                 sg_idx, sg = cache[("sg", i)]
-                k = int(np.flatnonzero(sg_idx == res)[0])
+                hit = np.flatnonzero(sg_idx == res)
+                if not hit.size:          # the model has another residue type here
+                    continue
+                k = int(hit[0])
+                has_sg = np.isfinite(sg[:, k, 0])     # models without this SG give no verdict
+                if not has_sg.any():
+                    continue
                 d = np.linalg.norm(sg - sg[:, [k]], axis=-1)
                 d[:, k] = np.inf
                 with np.errstate(invalid="ignore"):
                     bonded = np.nanmin(np.where(np.isnan(d), np.inf, d), axis=1) < thr
-                verdicts.append(np.where(bonded, "oxidised", "reduced"))
+                verdicts.append(np.where(bonded, "oxidised", "reduced")[has_sg])
         if not verdicts:
             out.append(f)
             continue

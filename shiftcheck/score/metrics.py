@@ -14,6 +14,8 @@ Definitions (docs/outputs.md):
 """
 from __future__ import annotations
 
+import warnings
+
 import numpy as np
 
 from ..chem.nuclei import ALL_CLASSES
@@ -28,7 +30,14 @@ def huber_q(z: np.ndarray, h: float) -> np.ndarray:
 
 
 def _pearson(x: np.ndarray, y: np.ndarray) -> np.ndarray:
-    """Row-wise Pearson r of x (n,) against each row of y (k, n)."""
+    """Row-wise Pearson r of x (n,) against each row of y (k, n); NaN in y: that row's own atoms."""
+    bad = ~np.isfinite(y)
+    if bad.any():
+        out = np.full(y.shape[0], np.nan)
+        for k in range(y.shape[0]):
+            ok = ~bad[k]
+            out[k] = _pearson(x[ok], y[k:k + 1, ok])[0] if ok.any() else np.nan
+        return out
     if x.size < 3:
         return np.full(y.shape[0], np.nan)
     xc = x - x.mean()
@@ -62,8 +71,11 @@ def per_nucleus_metrics(measured_ref: np.ndarray, predicted: np.ndarray, nucleus
             out[c] = {"rmsd": nan, "mad": nan.copy(), "r": nan.copy(), "n": 0}
             continue
         res = measured_ref[s][None, :] - predicted[:, s]
-        out[c] = {"rmsd": np.sqrt(np.mean(res ** 2, axis=1)), "mad": np.mean(np.abs(res), axis=1),
-                  "r": _pearson(measured_ref[s], predicted[:, s]), "n": n}
+        with np.errstate(invalid="ignore"), warnings.catch_warnings():
+            warnings.simplefilter("ignore", RuntimeWarning)     # a model lacking every atom
+            out[c] = {"rmsd": np.sqrt(np.nanmean(res ** 2, axis=1)),
+                      "mad": np.nanmean(np.abs(res), axis=1),
+                      "r": _pearson(measured_ref[s], predicted[:, s]), "n": n}
     return out
 
 
@@ -71,4 +83,6 @@ def combined_score(q: np.ndarray) -> np.ndarray:
     """Combined score of each entry from its robust losses q (n_entries, n): sqrt(mean q)."""
     if q.shape[1] == 0:
         return np.full(q.shape[0], np.nan)
-    return np.sqrt(q.mean(axis=1))
+    with np.errstate(invalid="ignore"), warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        return np.sqrt(np.nanmean(q, axis=1))         # NaN: an atom the model lacks

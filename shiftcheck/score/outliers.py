@@ -26,14 +26,20 @@ class Outliers:
 
 def find_outliers(z: np.ndarray, is_mean: np.ndarray, k: float = 3.0) -> Outliers:
     """Flag |z| > k and classify each atom across the individual models."""
-    flagged = np.abs(z) > k
+    with np.errstate(invalid="ignore"):
+        flagged = np.abs(z) > k            # NaN (atom absent from a model): not flagged there
+    zi = z[~is_mean] if (~is_mean).any() else z
     indiv = flagged[~is_mean] if (~is_mean).any() else flagged
     n = indiv.sum(axis=0)
-    total = indiv.shape[0]
-    klass = np.where(n == total, "every", np.where(n > 0, "some", "")).astype(object)
-    if total == 0:
+    total = np.isfinite(zi).sum(axis=0)    # models that have the atom
+    klass = np.where((n == total) & (total > 0), "every", np.where(n > 0, "some", "")).astype(object)
+    if zi.shape[0] == 0:
         klass[:] = ""
     return Outliers(flagged, klass, n, k)
+
+
+def _r3(x) -> float:
+    return round(float(x), 3)
 
 
 def residue_summary(comp, z: np.ndarray, out: Outliers, best: int) -> list[dict]:
@@ -54,8 +60,8 @@ def residue_summary(comp, z: np.ndarray, out: Outliers, best: int) -> list[dict]
         rows.append({
             "seq_id": int(comp.seq_id[s][0]), "comp_id": str(comp.comp_id[s][0]),
             "n_atoms": int(s.sum()),
-            "rms_z_best": round(float(np.sqrt(np.mean(zb ** 2))), 3),
-            "max_abs_z_best": round(float(np.max(np.abs(zb))), 3),
+            "rms_z_best": _r3(np.sqrt(np.mean(zb[np.isfinite(zb)] ** 2))) if np.isfinite(zb).any() else None,
+            "max_abs_z_best": _r3(np.max(np.abs(zb[np.isfinite(zb)]))) if np.isfinite(zb).any() else None,
             "flagged_every": [str(a) for a, c in zip(atoms, kl) if c == "every"],
             "flagged_some": [str(a) for a, c in zip(atoms, kl) if c == "some"],
             "n_models_flagged": int(fl.any(axis=1).sum()),

@@ -47,15 +47,20 @@ def rank_models(S: np.ndarray, counts: np.ndarray, W: np.ndarray, p_group: float
     Parameters
     ----------
     S : (n_entries, n_res) per-residue sums of the robust loss
-    counts : (n_res,) atoms per residue (the same for every entry: common atom set)
+    counts : (n_res,) atoms per residue, or (n_entries, n_res) when entries lack some atoms
+        (each entry is then scored on the atoms it has)
     W : (n_boot, n_res) bootstrap counts (:func:`shiftcheck.score.referencing.residue_weights`)
     p_group : float
         Share of replicates in which a model must beat (or tie) the best to join its group.
     """
     n_entries = S.shape[0]
     with np.errstate(invalid="ignore", divide="ignore"):
-        score = np.sqrt(S.sum(axis=1) / counts.sum())
-        boot = np.sqrt((W @ S.T) / (W @ counts)[:, None])      # (n_boot, n_entries)
+        if counts.ndim == 1:
+            score = np.sqrt(S.sum(axis=1) / counts.sum())
+            boot = np.sqrt((W @ S.T) / (W @ counts)[:, None])      # (n_boot, n_entries)
+        else:
+            score = np.sqrt(S.sum(axis=1) / counts.sum(axis=1))
+            boot = np.sqrt((W @ S.T) / (W @ counts.T))
     boot = boot[np.all(np.isfinite(boot), axis=1)] if boot.size else boot
     order = np.lexsort((np.arange(n_entries), score))
     rank = np.empty(n_entries, dtype=int)

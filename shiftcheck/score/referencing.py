@@ -118,7 +118,7 @@ def estimate_offsets(comp, mode: str = "auto", n_boot: int = 1000, seed: int | N
     if comp.predicted.shape[0] == 0 or not indiv.any():
         consensus = np.full(len(comp), np.nan)
     else:
-        consensus = np.median(comp.predicted[indiv], axis=0)
+        consensus = np.nanmedian(comp.predicted[indiv], axis=0)   # models lacking an atom: the others
     diff = comp.measured - consensus
     out = {}
     for iso in ("C", "N", "H"):

@@ -62,6 +62,7 @@ class ScoreResult(ScoreTables):
     parameters: dict
     n_stereo_swaps: int = 0
     warnings: list[str] = field(default_factory=list)
+    skipped: list = field(default_factory=list)   # isolation.Skipped: model files left out
 
     @property
     def best_model(self) -> str:
@@ -161,8 +162,10 @@ def score(shifts: ShiftList, ensembles: list[Ensemble], mappings: list[Mapping],
     residual = meas_ref[None, :] - comp.predicted
     sigma = np.array([sigma_map[c] for c in comp.nucleus], dtype=float)
     z = residual / sigma[None, :]
-    q = huber_q(z, float(const["huber_h"]["value"]))
-    S, counts = per_residue_sums(q, comp.residue, comp.n_residues)
+    valid = np.isfinite(z)                 # NaN: the model lacks that atom (scored on the rest)
+    q = np.where(valid, huber_q(np.where(valid, z, 0.0), float(const["huber_h"]["value"])), np.nan)
+    S, _ = per_residue_sums(np.where(valid, q, 0.0), comp.residue, comp.n_residues)
+    counts, _ = per_residue_sums(valid.astype(float), comp.residue, comp.n_residues)
     ranking = rank_models(S, counts, W, p_group=float(const["p_group"]["value"]))
     metrics = per_nucleus_metrics(meas_ref, comp.predicted, comp.nucleus)
     out = find_outliers(z, comp.is_mean, k_sigma)
@@ -173,6 +176,13 @@ def score(shifts: ShiftList, ensembles: list[Ensemble], mappings: list[Mapping],
     warnings = list(shifts.warnings)
     for ens in ensembles:
         warnings += [f"{ens.name}: {w}" for w in ens.warnings]
+    from ..predict.plausibility import implausible_predictions
+    for pred in predictions:
+        warnings += implausible_predictions(pred)
+    for name, a in comp.absent.items():
+        why = ", ".join(f"{k} {v}" for k, v in sorted(a["reasons"].items()))
+        warnings.append(f"{name}: lacks {a['n_absent']} of the {len(comp)} compared atoms ({why}); "
+                        f"scored on the other {a['n_compared']}, the other models keep theirs")
     for iso, off in offsets.items():
         if off.n and np.isfinite(off.low) and (off.low > 0 or off.high < 0) and not off.applied \
                 and reref == "auto":

@@ -144,8 +144,15 @@ def add_hydrogens(ens: Ensemble) -> Ensemble:
     xyz = ens.coords
     new_res, new_name, new_xyz = [], [], []
 
+    fills = []          # (atom index, positions): protons of the file absent from some models
+
     def emit(res, hname, pos):
-        have = ens.indices(res, hname) >= 0
+        idx = ens.indices(res, hname)
+        have = idx >= 0
+        if have.any():
+            gap = np.isnan(xyz[:, idx[have], 0]) & ~np.isnan(pos[:, have, 0])
+            if gap.any():
+                fills.append((idx[have], pos[:, have], gap))
         keep = ~have & ~np.all(np.isnan(pos[..., 0]), axis=0)
         if keep.any():
             new_res.append(res[keep])
@@ -205,6 +212,18 @@ def add_hydrogens(ens: Ensemble) -> Ensemble:
             for k, tors in enumerate((180.0, 0.0)):
                 emit(res, np.array(cols[k], dtype=object),
                      _place(O, Y, X, g["NH_sidechain_amide"], g["sp2"], tors))
+    if fills:           # hydrogens built per model: a model without them gets its own
+        coords = ens.coords.copy()
+        n = 0
+        for idx, pos, gap in fills:
+            sub = coords[:, idx]
+            sub[gap] = pos[gap]
+            coords[:, idx] = sub
+            n += int(gap.sum())
+        models = sorted({int(m) for idx, pos, gap in fills for m in np.flatnonzero(gap.any(axis=1))})
+        ens = dataclasses.replace(ens, coords=coords, _index=None, warnings=list(ens.warnings) + [
+            f"built {n} hydrogen positions in {len(models)} model(s) whose file records lack "
+            f"protons the other models have (models {', '.join(str(m + 1) for m in models[:8])})"])
     return _merge(ens, new_res, new_name, new_xyz)
 
 
