@@ -228,3 +228,13 @@ def test_page_in_chromium(demo_dir, tmp_path):
     keep = os.environ.get("SHIFTCHECK_SCREENSHOT_DIR")
     if keep:
         shutil.copy(shot, Path(keep) / shot.name)
+
+
+def test_skipped_models_listed_on_page(tmp_path):
+    """Skipped model files (summary.json 'skipped', issue 13) appear in the page data with reason."""
+    d = make_outdir(tmp_path / "osk", n_models=3)
+    s = json.loads((d / "summary.json").read_text())
+    s["skipped"] = [{"file": "/x/broken_model.pdb", "reason": "unreadable coordinates: line 3"}]
+    (d / "summary.json").write_text(json.dumps(s))
+    data = _embedded(write_html(d))
+    assert data["meta"]["skipped"] == [{"file": "broken_model.pdb", "reason": "unreadable coordinates: line 3"}]

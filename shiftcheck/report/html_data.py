@@ -181,6 +181,8 @@ def _meta(data: ReportData) -> dict:
             "reref_mode": s.get("reref_mode"), "parameters": s.get("parameters") or {},
             "expected_error": s.get("expected_error") or {},
             "warnings": list(s.get("warnings") or []), "notes": list(data.notes),
+            "skipped": [{"file": _base(x.get("file")), "reason": str(x.get("reason"))}
+                        for x in s.get("skipped") or [] if isinstance(x, dict)],
             "caution": CAUTION, "guide": _guide()}
 
 

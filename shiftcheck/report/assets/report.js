@@ -27,7 +27,6 @@
     return e;
   }
   const tipAttr = (lines) => ` data-tip="${esc(lines.join("\n"))}"`;
-
   /* ---------------------------------------------------------------- hover tips */
   const tip = $("tip");
   document.addEventListener("mousemove", (ev) => {
@@ -381,6 +380,7 @@
   function drawInputs() {
     let h = "<dl class=\"kv\"><dt>Inputs</dt>";
     for (const f of M.inputs) h += `<dd>${esc(f.kind)}  ${esc(f.file)}  sha256 ${esc(String(f.sha256 || "-").slice(0, 12))}...  ${esc(f.detail)}</dd>`;
+    if (M.skipped.length) h += `<dt>Skipped models (${M.skipped.length}, not scored)</dt>` + M.skipped.map((x) => `<dd>${esc(x.file)}: ${esc(x.reason)}</dd>`).join("");
     h += "<dt>Mapping of shift list to models</dt>";
     for (const m of M.mapping) h += `<dd>${esc(m.ensemble)} chain ${esc(m.chain)}: identity ${fix(m.identity, 2)}, coverage ${fix(m.coverage, 2)}, ` +
       `${esc(typeof m.offsets === "string" ? m.offsets : JSON.stringify(m.offsets))}, ${esc((m.mismatches || []).length)} mismatch(es)</dd>`;
