@@ -11,7 +11,8 @@ Procedure
    as the target. Chain-terminus atoms are left out (:func:`shiftcheck.nuclei.at_chain_terminus`).
 2. Rows of a shift list share a weight of 1 (a list paired with two structures gives each pair
    weight 1/2), so every protein counts once.
-3. Solve (λ per nucleus class, ``ridge_lambda`` in the settings); estimate one referencing offset per shift list and nucleus class as the median residual,
+3. Solve (λ per nucleus class chosen from the ``ridge_lambda`` grid of the settings by
+   leave-one-protein-out cross-validation, :mod:`shiftcheck.predict.crossval`); estimate one referencing offset per shift list and nucleus class as the median residual,
    centre the offsets on their median across lists, subtract them and solve again
    (``referencing_iterations`` times), so badly referenced entries do not bias the fit.
 4. Leave one shift list out: fit on the others, predict it, subtract its median residual, and
@@ -34,7 +35,7 @@ from .params import FORMAT
 from .randomcoil import load_table
 
 __all__ = ["Pair", "Dataset", "read_pairs_file", "load_settings", "build_dataset", "load_datasets",
-           "collect", "ridge_lambda", "ridge_solve", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
+           "collect", "ridge_lambda", "lambda_grid", "ridge_solve", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
 
 RING_MODELS = ("haigh-mallion", "johnson-bovey", "point-dipole")
 PROTON_CLASSES = ("H", "HA", "HMe", "Haro")
@@ -150,12 +151,16 @@ def ridge_lambda(settings: dict, nucleus: str) -> float:
 
 
 def collect(datasets: list[Dataset], nucleus: str, groups, ring_model: str, orders=(2, 1),
-            names: list[str] | None = None, burial: dict | None = None):
+            names: list[str] | None = None, burial: dict | None = None, screen: dict | None = None,
+            models: str = "mean"):
     """Rows of one nucleus class: (names, X (N, k), y = measured − random coil, dataset index, weight).
 
     ``orders`` is the ``conformation`` setting (dict) or the two Fourier orders. Features of NMR
-    ensembles are averaged over the models. ``burial`` is the ``burial`` setting.
+    ensembles are averaged over the models (``models="first"``: model 1 only, for comparison).
+    ``burial`` is the ``burial`` setting. ``screen`` is the ``target_screen`` setting: rows with
+    |measured − random coil| above ``max_abs_secondary[nucleus]`` are left out.
     """
+    bound = float((screen or {}).get("max_abs_secondary", {}).get(nucleus, np.inf))
     groups = tuple(groups)
     if names is None:
         seen: dict[str, int] = {}
@@ -168,8 +173,8 @@ def collect(datasets: list[Dataset], nucleus: str, groups, ring_model: str, orde
     for i, d in enumerate(datasets):
         _, _, X, sel = d.features.matrix(nucleus, names, groups, ring_model, orders, burial)
         y = d.measured[sel] - d.features.rc[:, sel].mean(axis=0)
-        ok = np.isfinite(y)
-        Xs.append(X.mean(axis=0)[ok]), ys.append(y[ok])
+        ok = np.isfinite(y) & (np.abs(y) <= bound)
+        Xs.append((X[0] if models == "first" else X.mean(axis=0))[ok]), ys.append(y[ok])
         ds.append(np.full(ok.sum(), i)), ws.append(np.full(ok.sum(), d.weight))
     return (list(names), np.concatenate(Xs) if Xs else np.zeros((0, len(names))),
             np.concatenate(ys), np.concatenate(ds), np.concatenate(ws))
@@ -216,40 +221,45 @@ def loo_rows(names, X, y, d, w, group_of: np.ndarray, lam: float, iterations: in
     return pred
 
 
-def _loo_error(y, pred, d, w, group_of):
-    """Pooled RMSD after removing each group's median residual (its referencing offset)."""
-    r = y - pred
-    ok = np.isfinite(r)
-    for g in np.unique(group_of[ok]):
-        s = ok & (group_of == g)
-        r[s] -= np.median(r[s])
-    return float(np.sqrt(np.average(r[ok] ** 2, weights=w[ok]))) if ok.any() else float("nan")
+def lambda_grid(settings: dict, nucleus: str) -> list[float]:
+    """Candidate ridge strengths of one class: ``ridge_lambda.grid`` (or the fixed value)."""
+    rl = settings["ridge_lambda"]
+    return [float(v) for v in rl["grid"]] if "grid" in rl else [ridge_lambda(settings, nucleus)]
 
 
 def calibrate(datasets: list[Dataset], settings: dict | None = None, description: str = "",
               ring_models=RING_MODELS) -> dict:
     """Fit all coefficients and return a parameter dict (see :mod:`shiftcheck.predict.params`)."""
+    from .crossval import GroupedRows, choose_lambda, pooled_error
+
     settings = settings or load_settings()
     it = int(settings["referencing_iterations"]["value"])
     orders = settings["conformation"]
     src = f"fitted by `shiftcheck calibrate` on {description or f'{len(datasets)} pairs'}"
     groups_all = sorted({d.group for d in datasets})
     gid = {g: i for i, g in enumerate(groups_all)}
-    coeffs, errors, proton_sse = {}, {}, {}
+    coeffs, errors, proton_sse, lams = {}, {}, {}, {}
     for rm in ring_models:
-        coeffs[rm], errors[rm], proton_sse[rm] = {}, {}, [0.0, 0.0]
+        coeffs[rm], errors[rm], proton_sse[rm], lams[rm] = {}, {}, [0.0, 0.0], {}
         for nuc, groups in settings["groups"].items():
-            lam = ridge_lambda(settings, nuc)
-            names, X, y, d, w = collect(datasets, nuc, groups, rm, orders, burial=settings.get("burial"))
+            names, X, y, d, w = collect(datasets, nuc, groups, rm, orders, burial=settings.get("burial"),
+                                        screen=settings.get("target_screen"))
             if y.size < len(names) // 4 + 2:
                 continue
-            beta, _ = fit_rows(names, X, y, d, w, lam, it)
-            coeffs[rm][nuc] = {"source": src, "names": names, "values": [float(v) for v in beta]}
             group_of = np.array([gid[datasets[k].group] for k in d])
-            if len(groups_all) > 1:
-                err = _loo_error(y, loo_rows(names, X, y, d, w, group_of, lam, it), d, w, group_of)
+            rows = GroupedRows(names, X, y, d, w, group_of)
+            grid = lambda_grid(settings, nuc)
+            if len(groups_all) > 2 and len(grid) > 1:
+                lam, _ = choose_lambda(rows, grid, it)
             else:
-                err = _loo_error(y, X @ beta, d, w, group_of)
+                lam = ridge_lambda(settings, nuc) if "value" in settings["ridge_lambda"] else grid[0]
+            lams[rm][nuc] = lam
+            beta, _ = rows.fit(lam, it)
+            coeffs[rm][nuc] = {"source": src, "names": names, "values": [float(v) for v in beta]}
+            if len(groups_all) > 1:
+                err = pooled_error(y, rows.loo(lam, it), w, group_of)
+            else:
+                err = pooled_error(y, X @ beta, w, group_of)
             errors[rm][nuc] = err
             if nuc in PROTON_CLASSES and np.isfinite(err):
                 proton_sse[rm][0] += err ** 2 * w.sum()
@@ -257,16 +267,21 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
     best = min(ring_models, key=lambda m: proton_sse[m][0] / max(proton_sse[m][1], 1e-12))
     loo = "leave-one-protein-out" if len(groups_all) > 1 else "in-sample (only one shift list)"
     table = load_table()
+    rl = {k: v for k, v in settings["ridge_lambda"].items() if k != "source"}
+    rl.update({"by_nucleus": lams[best], "by_ring_model": lams,
+               "source": f"{src}: per nucleus class the grid value with the lowest {loo} RMSD "
+                         f"(grouped cross-validation, {settings['ridge_lambda'].get('source', '')})"})
     return {
         "format": FORMAT, "version": "1",
         "description": "Parameters of the shiftcheck shift predictor. " + src + ".",
         "random_coil": table,
         "default_ring_model": {"value": best, "source": f"{src}: lowest {loo} RMSD pooled over the proton classes"},
-        "ridge_lambda": settings["ridge_lambda"],
+        "ridge_lambda": rl,
         "referencing_iterations": settings["referencing_iterations"],
         "conformation": settings["conformation"],
         **({"burial": settings["burial"]} if "burial" in settings else {}),
         "groups": settings["groups"],
+        **({"target_screen": settings["target_screen"]} if "target_screen" in settings else {}),
         "coefficients": coeffs,
         "expected_error": {"source": f"{loo} RMSD (ppm, referencing offset removed) computed by "
                                      f"`shiftcheck calibrate` with the default ring model on {description or 'its input'}",
