@@ -16,7 +16,9 @@ Procedure
    centre the offsets on their median across lists, subtract them and solve again
    (``referencing_iterations`` times), so badly referenced entries do not bias the fit.
 4. Leave one shift list out: fit on the others, predict it, subtract its median residual, and
-   pool the squared errors: this is the ``expected_error`` stored in the file. The default ring
+   pool the errors: their RMSD is ``loo_rmsd``; the ``expected_error`` stored in the file is the
+   tail-matched scale of the same residuals (:func:`tail_scale`), so that the 3σ flag fires on
+   held-out proteins as often as it would for normal errors. The default ring
    model is the one with the lowest pooled leave-one-out error over the proton classes.
 """
 from __future__ import annotations
@@ -35,7 +37,7 @@ from .params import FORMAT
 from .randomcoil import load_table
 
 __all__ = ["Pair", "Dataset", "read_pairs_file", "load_settings", "build_dataset", "load_datasets",
-           "collect", "ridge_lambda", "lambda_grid", "ridge_solve", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
+           "collect", "ridge_lambda", "lambda_grid", "ridge_solve", "tail_scale", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
 
 RING_MODELS = ("haigh-mallion", "johnson-bovey", "point-dipole")
 PROTON_CLASSES = ("H", "HA", "HMe", "Haro")
@@ -221,6 +223,17 @@ def loo_rows(names, X, y, d, w, group_of: np.ndarray, lam: float, iterations: in
     return pred
 
 
+def tail_scale(y, pred, group_of, tail: float) -> float:
+    """Scale s with P(|r| > 3 s) = 1 − ``tail`` on residuals r = y − pred (each group's median
+    removed): the ``tail`` quantile of |r| divided by 3; NaN without residuals."""
+    r = y - pred
+    ok = np.isfinite(r)
+    for g in np.unique(group_of[ok]):
+        s = ok & (group_of == g)
+        r[s] -= np.median(r[s])
+    return float(np.quantile(np.abs(r[ok]), tail) / 3.0) if ok.any() else float("nan")
+
+
 def lambda_grid(settings: dict, nucleus: str) -> list[float]:
     """Candidate ridge strengths of one class: ``ridge_lambda.grid`` (or the fixed value)."""
     rl = settings["ridge_lambda"]
@@ -238,9 +251,9 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
     src = f"fitted by `shiftcheck calibrate` on {description or f'{len(datasets)} pairs'}"
     groups_all = sorted({d.group for d in datasets})
     gid = {g: i for i, g in enumerate(groups_all)}
-    coeffs, errors, proton_sse, lams = {}, {}, {}, {}
+    coeffs, errors, proton_sse, lams, scales = {}, {}, {}, {}, {}
     for rm in ring_models:
-        coeffs[rm], errors[rm], proton_sse[rm], lams[rm] = {}, {}, [0.0, 0.0], {}
+        coeffs[rm], errors[rm], proton_sse[rm], lams[rm], scales[rm] = {}, {}, [0.0, 0.0], {}, {}
         for nuc, groups in settings["groups"].items():
             names, X, y, d, w = collect(datasets, nuc, groups, rm, orders, burial=settings.get("burial"),
                                         screen=settings.get("target_screen"))
@@ -256,11 +269,10 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
             lams[rm][nuc] = lam
             beta, _ = rows.fit(lam, it)
             coeffs[rm][nuc] = {"source": src, "names": names, "values": [float(v) for v in beta]}
-            if len(groups_all) > 1:
-                err = pooled_error(y, rows.loo(lam, it), w, group_of)
-            else:
-                err = pooled_error(y, X @ beta, w, group_of)
+            pred = rows.loo(lam, it) if len(groups_all) > 1 else X @ beta
+            err = pooled_error(y, pred, w, group_of)
             errors[rm][nuc] = err
+            scales[rm][nuc] = tail_scale(y, pred, group_of, float(settings["expected_error"]["tail"]))
             if nuc in PROTON_CLASSES and np.isfinite(err):
                 proton_sse[rm][0] += err ** 2 * w.sum()
                 proton_sse[rm][1] += w.sum()
@@ -283,11 +295,19 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
         "groups": settings["groups"],
         **({"target_screen": settings["target_screen"]} if "target_screen" in settings else {}),
         "coefficients": coeffs,
-        "expected_error": {"source": f"{loo} RMSD (ppm, referencing offset removed) computed by "
-                                     f"`shiftcheck calibrate` with the default ring model on {description or 'its input'}",
-                           "values": {k: round(v, 4) for k, v in errors[best].items() if np.isfinite(v)},
+        "expected_error": {"source": f"tail-matched scale of the {loo} residuals (ppm, each protein's "
+                                     f"referencing offset removed): the {settings['expected_error']['tail']:g} "
+                                     f"quantile of |residual| divided by 3, so that |z| > 3 occurs as often as for a "
+                                     f"normal distribution; computed by `shiftcheck calibrate` with the default ring "
+                                     f"model on {description or 'its input'} ({settings['expected_error']['source']})",
+                           "values": {k: round(v, 4) for k, v in scales[best].items() if np.isfinite(v)},
                            "by_ring_model": {m: {k: round(v, 4) for k, v in e.items() if np.isfinite(v)}
-                                             for m, e in errors.items()}},
+                                             for m, e in scales.items()}},
+        "loo_rmsd": {"source": f"{loo} RMSD (ppm, referencing offset removed) computed by "
+                               f"`shiftcheck calibrate` on {description or 'its input'}",
+                     "values": {k: round(v, 4) for k, v in errors[best].items() if np.isfinite(v)},
+                     "by_ring_model": {m: {k: round(v, 4) for k, v in e.items() if np.isfinite(v)}
+                                       for m, e in errors.items()}},
         "training": {"source": src, "pairs": [d.label for d in datasets],
                      "n_shift_lists": len(groups_all)},
     }
