@@ -80,6 +80,7 @@ def _warm(ds, settings) -> None:
     for rm in RING_MODELS:
         sf.ring(rm)
     sf.hbond()
+    sf.hbond_basis()
     for nuc in settings["groups"]:
         sf.anisotropy(nuc)
         sf.burial(nuc, settings.get("burial"))

@@ -42,7 +42,7 @@ __all__ = ["Pair", "Dataset", "read_pairs_file", "load_settings", "build_dataset
 RING_MODELS = ("haigh-mallion", "johnson-bovey", "point-dipole")
 PROTON_CLASSES = ("H", "HA", "HMe", "Haro")
 _GROUP_RANK = {"const": 0, "res:": 1, "prev:": 2, "next:": 3, "conf:": 4, "ring:": 5, "hb:": 6, "aniso:": 7,
-               "bur:": 8, "hse:": 9}
+               "bur:": 8, "hse:": 9, "hbx:": 10, "sc:": 11}
 
 
 @dataclass
