@@ -2,9 +2,9 @@
 
 Used by tools/validate_predictor.py (the ablation table of docs/validation.md); run alone with
 ``SHIFTCHECK_REALDATA=../shared/realdata python tools/ablation.py`` to print the table.
-Every variant is fitted and scored exactly like the shipped model (ridge strength chosen per
-variant by leave-one-protein-out CV on the grid of calibration.json, then leave-one-protein-out
-RMSD with each protein's referencing offset removed; default ring model).
+Every variant is fitted and scored like the shipped model (at the shipped model's ridge strength
+per nucleus class, which the CV chose; leave-one-protein-out RMSD with each protein's
+referencing offset removed; default ring model).
 """
 from __future__ import annotations
 
@@ -80,33 +80,43 @@ VARIANTS = [
     ("− neighbour residue types (CB, N)", _drop_group("neighbour"), "mean"),
     ("− neighbour residue types for CB only (new)", _drop_group_of("neighbour", ("CB",)), "mean"),
     ("− χ1 (CB, N)", _set_conf("chi1", {}), "mean"),
-    ("+ χ1 for every backbone class (not kept)", _set_conf("chi1", ALL6), "mean"),
+    ("− χ1/χ2 per side-chain class (CA, CB, N; new)", _drop_group("sidechain"), "mean"),
+    ("− fitted H-bond distance/angle basis (H; new)", _drop_group("hbond_basis"), "mean"),
+    ("+ fitted H-bond basis for HA (not kept)", _add_group("hbond_basis", ("HA",)), "mean"),
+    ("+ χ1 (shared) for every backbone class (not kept)", _set_conf("chi1", ALL6), "mean"),
     ("+ neighbour residue types for H, HA, CA, C (not kept)", _add_group("neighbour"), "mean"),
     ("+ neighbour ψ(i−1), ψ(i+1) for HA (not kept)", _add_neigh({"HA": [["psi", -1, 2], ["psi", 1, 1]]}), "mean"),
     ("fixed ridge λ = 100 (no CV)", lambda s: s.__setitem__("ridge_lambda", {"value": 100.0}), "mean"),
 ]
 
 
-def loo_rmsd(ds, settings, nuc, ring_model, models="mean"):
-    """(RMSD, λ) of one nucleus class, leave-one-protein-out, for given settings."""
+def loo_rmsd(ds, settings, nuc, ring_model, models="mean", lam=None):
+    """(RMSD, λ) of one nucleus class, leave-one-protein-out, for given settings (λ chosen by
+    CV when not given)."""
     groups = sorted({d.group for d in ds})
     gid = {g: i for i, g in enumerate(groups)}
     names, X, y, d, w = collect(ds, nuc, settings["groups"][nuc], ring_model, settings["conformation"],
                                 burial=settings.get("burial"), screen=settings.get("target_screen"),
                                 models=models)
     rows = GroupedRows(names, X, y, d, w, np.array([gid[ds[k].group] for k in d]))
-    lam, errs = choose_lambda(rows, lambda_grid(settings, nuc), int(settings["referencing_iterations"]["value"]))
-    return errs[lam], lam
+    it = int(settings["referencing_iterations"]["value"])
+    if lam is None:
+        lam, errs = choose_lambda(rows, lambda_grid(settings, nuc), it)
+        return errs[lam], lam
+    return rows.loo_error(float(lam), it), lam
 
 
-def ablation(ds, settings, ring_model, nuclei=BACKBONE):
-    """{label: {nucleus: RMSD}} for every variant."""
+def ablation(ds, settings, ring_model, lams, nuclei=BACKBONE):
+    """{label: {nucleus: RMSD}} for every variant; ``lams``: the shipped λ per nucleus class
+    (every variant is fitted at it, except the fixed-λ variant)."""
     out = {}
     for label, edit, models in VARIANTS:
         s = copy.deepcopy(settings)
         if edit is not None:
             edit(s)
-        out[label] = {n: loo_rmsd(ds, s, n, ring_model, models)[0] for n in nuclei}
+        fixed = "value" in s["ridge_lambda"]
+        out[label] = {n: loo_rmsd(ds, s, n, ring_model, models,
+                                  s["ridge_lambda"]["value"] if fixed else lams[n])[0] for n in nuclei}
         print(label, {n: round(v, 3) for n, v in out[label].items()}, file=sys.stderr)
     return out
 
@@ -128,5 +138,6 @@ if __name__ == "__main__":
     import realdata_pairs as rp
     from shiftcheck.predict.calibrate import load_settings
 
-    rm = json.loads((HERE.parent / "shiftcheck/data/params_default.json").read_text())["default_ring_model"]["value"]
-    print("\n".join(table(ablation(rp.load(), load_settings(), rm))))
+    p = json.loads((HERE.parent / "shiftcheck/data/params_default.json").read_text())
+    print("\n".join(table(ablation(rp.load(), load_settings(), p["default_ring_model"]["value"],
+                                    p["ridge_lambda"]["by_nucleus"]))))
