@@ -21,7 +21,7 @@ def datasets(realdata):
     sys.path.insert(0, str(ROOT / "tools"))
     import realdata_pairs as rp
 
-    return rp.load(rp.pairs(realdata), cache=False)
+    return rp.load(rp.pairs(realdata))  # features cached in .cache/ (gitignored) between runs
 
 
 @pytest.fixture(scope="session")
