@@ -71,7 +71,9 @@ def _drop_group_of(g, nuclei):
 VARIANTS = [
     ("shipped model (ensemble-averaged features, CV ridge)", None, "mean"),
     ("features of model 1 only (no ensemble averaging)", None, "first"),
-    ("− hydrogen-bond term (H, HA, C, N)", _drop_group("hbond"), "mean"),
+    ("− hydrogen-bond terms (fixed-form: H, HA, C, N; fitted basis: H)",
+     lambda s: (_drop_group("hbond")(s), _drop_group("hbond_basis")(s)), "mean"),
+    ("− fixed-form hydrogen-bond term only (H, HA, C, N)", _drop_group("hbond"), "mean"),
     ("− ring currents", _drop_group("ring_current"), "mean"),
     ("− peptide anisotropy (H, HA, C)", _drop_group("anisotropy"), "mean"),
     ("− burial (CB, C, N)", _drop_group("burial"), "mean"),

@@ -30,6 +30,7 @@ from shiftcheck.predict.crossval import GroupedRows, choose_lambda  # noqa: E402
 NUCLEI = ("H", "HA", "CA", "CB", "C", "N", "HMe", "Haro")
 BACKBONE = ("H", "HA", "CA", "CB", "C", "N")
 GOALS = {"H": 0.45, "HA": 0.25, "CA": 0.95, "CB": 1.05, "C": 1.0, "N": 2.4}
+_BASE = ("offset", "conformation", "neighbour", "ring_current", "hbond", "anisotropy", "burial")
 STEPS = [("random coil (table + corrections)", ()),
          ("+ residue-type offsets", ("offset",)),
          ("+ backbone conformation", ("offset", "conformation")),
@@ -38,8 +39,9 @@ STEPS = [("random coil (table + corrections)", ()),
          ("+ hydrogen bonds", ("offset", "conformation", "neighbour", "ring_current", "hbond")),
          ("+ peptide anisotropy",
           ("offset", "conformation", "neighbour", "ring_current", "hbond", "anisotropy")),
-         ("+ burial (CB, C, N; full model)",
-          ("offset", "conformation", "neighbour", "ring_current", "hbond", "anisotropy", "burial"))]
+         ("+ burial (CB, C, N)", _BASE),
+         ("+ χ1/χ2 per side-chain class (CA, CB, N)", _BASE + ("sidechain",)),
+         ("+ fitted H-bond basis (H; full model)", _BASE + ("sidechain", "hbond_basis"))]
 BEGIN, END = "<!-- BEGIN predictor -->", "<!-- END predictor -->"
 
 
