@@ -32,6 +32,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..nuclei import at_chain_terminus, entity_ends
+from .crossval import tail_scale
 from .features import StructureFeatures
 from .params import FORMAT
 from .randomcoil import load_table
@@ -221,17 +222,6 @@ def loo_rows(names, X, y, d, w, group_of: np.ndarray, lam: float, iterations: in
         beta, _ = fit_rows(names, X[~test], y[~test], d[~test], w[~test], lam, iterations)
         pred[test] = X[test] @ beta
     return pred
-
-
-def tail_scale(y, pred, group_of, tail: float) -> float:
-    """Scale s with P(|r| > 3 s) = 1 − ``tail`` on residuals r = y − pred (each group's median
-    removed): the ``tail`` quantile of |r| divided by 3; NaN without residuals."""
-    r = y - pred
-    ok = np.isfinite(r)
-    for g in np.unique(group_of[ok]):
-        s = ok & (group_of == g)
-        r[s] -= np.median(r[s])
-    return float(np.quantile(np.abs(r[ok]), tail) / 3.0) if ok.any() else float("nan")
 
 
 def lambda_grid(settings: dict, nucleus: str) -> list[float]:

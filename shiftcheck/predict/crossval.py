@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["GroupedRows", "choose_lambda"]
+__all__ = ["GroupedRows", "choose_lambda", "centred_residuals", "pooled_error", "tail_scale"]
 
 
 class GroupedRows:
@@ -100,14 +100,27 @@ class GroupedRows:
         return new
 
 
-def pooled_error(y, pred, w, group_of) -> float:
-    """Pooled weighted RMSD of y − pred after removing each group's median residual."""
+def centred_residuals(y, pred, group_of) -> tuple[np.ndarray, np.ndarray]:
+    """(r = y − pred with each group's median residual removed, finite mask)."""
     r = y - pred
     ok = np.isfinite(r)
     for g in np.unique(group_of[ok]):
         s = ok & (group_of == g)
         r[s] -= np.median(r[s])
+    return r, ok
+
+
+def pooled_error(y, pred, w, group_of) -> float:
+    """Pooled weighted RMSD of y − pred after removing each group's median residual."""
+    r, ok = centred_residuals(y, pred, group_of)
     return float(np.sqrt(np.average(r[ok] ** 2, weights=w[ok]))) if ok.any() else float("nan")
+
+
+def tail_scale(y, pred, group_of, tail: float) -> float:
+    """Scale s with P(|r| > 3 s) = 1 − ``tail`` on residuals r = y − pred (each group's median
+    removed): the ``tail`` quantile of |r| divided by 3; NaN without residuals."""
+    r, ok = centred_residuals(y, pred, group_of)
+    return float(np.quantile(np.abs(r[ok]), tail) / 3.0) if ok.any() else float("nan")
 
 
 def choose_lambda(rows: GroupedRows, grid, iterations: int = 1) -> tuple[float, dict[float, float]]:
