@@ -199,8 +199,8 @@ def write_model(ens, kind: str, out: Path) -> Path:
 
 
 # ----------------------------------------------------------------------------- shifts
-# Fallback noise widths (ppm) per nucleus class, used only when the parameter file carries no
-# "expected_error": the accuracy goals of the predictor issue (from memory, see docs/validation.md)
+# Fallback noise widths (ppm) per nucleus class, used only when the parameter file carries neither
+# "loo_rmsd" nor "expected_error": the accuracy goals of the predictor issue (from memory, see docs/validation.md)
 FALLBACK_SIGMA = {"H": 0.45, "HA": 0.25, "CA": 0.95, "CB": 1.05, "C": 1.0, "N": 2.4, "HMe": 0.2,
                   "Haro": 0.3}
 OFFSET_13C = 1.8
@@ -231,13 +231,16 @@ def predicted_true_shifts(model_path: Path) -> tuple[list[tuple], dict, str]:
     p = pred.predict(ens, SampleConditions(temperature_K=TEMPERATURE_K, pH=PH))
     sigma = dict(FALLBACK_SIGMA)
     src = "fallback (predictor accuracy goals, from memory)"
-    exp = pred.params.get("expected_error") if isinstance(pred.params, dict) else None
+    # the typical held-out error (leave-one-protein-out RMSD) is the width of the Gaussian noise;
+    # older parameter files carry only expected_error (which was that RMSD)
+    key = "loo_rmsd" if isinstance(pred.params.get("loo_rmsd"), dict) else "expected_error"
+    exp = pred.params.get(key) if isinstance(pred.params, dict) else None
     values = exp.get("values", {}) if isinstance(exp, dict) else {}
     if values:
         for k, v in values.items():
             if k in sigma:
                 sigma[k] = float(v)
-        src = "expected_error of the shipped parameter file (" + str(exp.get("source", ""))[:120] + ")"
+        src = f"{key} of the shipped parameter file (" + str(exp.get("source", ""))[:120] + ")"
     rows = []
     for j in range(len(p)):
         v = float(p.values[0, j])

@@ -2,16 +2,13 @@
 
 The pairs are listed in ``tools/realdata_pairs.tsv`` (the same file ``shiftcheck calibrate``
 reads). :func:`load` reads them with the project's readers (``shiftcheck.io.shift_formats``,
-``shiftcheck.io.coords``, ``shiftcheck.structure.mapping``); while the shift reader is not yet
-available it falls back to pynmrstar for NMR-STAR 3.x files (2.1 files are then skipped).
+``shiftcheck.io.coords``, ``shiftcheck.structure.mapping``) and caches the features per pair.
 """
 from __future__ import annotations
 
 import os
 import sys
 from pathlib import Path
-
-import numpy as np
 
 HERE = Path(__file__).resolve().parent
 PAIRS_FILE = HERE / "realdata_pairs.tsv"
@@ -33,75 +30,82 @@ def pairs(data_dir: Path | None = None):
     return read_pairs_file(str(PAIRS_FILE), str(data_dir or realdata_dir()))
 
 
-def _interim_read(path: str):  # pragma: no cover - only until shiftcheck.io.shift_formats lands
-    import pynmrstar
-
-    from shiftcheck.shiftlist import SampleConditions, ShiftList
-
-    entry = pynmrstar.Entry.from_file(path)
-    loops = entry.get_loops_by_category("_Atom_chem_shift")
-    loop = max(loops, key=len)
-    tags = loop.get_tag(["Seq_ID", "Comp_ID", "Atom_ID", "Atom_type", "Val"])
-    rows = [r for r in tags if r[4] not in (".", "?")]
-    seq = []
-    for lp in entry.get_loops_by_category("_Entity_comp_index"):
-        seq = [r for r in lp.get_tag(["ID", "Comp_ID"])]
-        break
-    cond = SampleConditions()
-    for lp in entry.get_loops_by_category("_Sample_condition_variable"):
-        for t, v, u in lp.get_tag(["Type", "Val", "Val_units"]):
-            try:
-                if t.lower().startswith("temp"):
-                    cond.temperature_K = float(v) + (273.15 if u.strip().upper() in ("C", "°C") else 0)
-                elif t.lower() == "ph":
-                    cond.pH = float(v)
-            except ValueError:
-                pass
-        break
-    n = len(rows)
-    a = np.array
-    return ShiftList(source=path, list_id="1", list_name="", entity_id="1",
-                     sequence=tuple(c for _, c in seq), sequence_seq_ids=a([int(i) for i, _ in seq], dtype=int),
-                     seq_id=a([int(r[0]) for r in rows]), auth_seq_id=a([int(r[0]) for r in rows]),
-                     comp_id=a([r[1] for r in rows], dtype=object), atom_id=a([r[2] for r in rows], dtype=object),
-                     atom_type=a([r[3] for r in rows], dtype=object), value=a([float(r[4]) for r in rows]),
-                     error=np.full(n, np.nan), ambiguity=np.zeros(n, int), line=np.zeros(n, int),
-                     conditions=cond)
-
-
 def read_shifts_any(path: str):
-    """The project's reader; the interim pynmrstar reader while the project's is incomplete."""
-    try:
-        from shiftcheck.io.shift_formats import read_shifts
+    """The project's shift reader (it reads the bare-saveframe BMRB exports of nef_set too)."""
+    from shiftcheck.io.shift_formats import read_shifts
 
-        return read_shifts(path)
-    except ImportError:
-        return _interim_read(path)
+    return read_shifts(path)
 
 
-def load(pair_list=None):
-    """Datasets (shiftcheck.predict.calibrate.Dataset) for the pairs; skips unreadable 2.1 files
-    only while the project's shift reader is missing."""
+def _cache_key(p) -> str:
+    """Key of one pair's cached features: the input files (path, size, mtime) and the code and
+    data files that features depend on (predictor, structure, readers, data files)."""
+    import hashlib
+
+    h = hashlib.sha1()
+    for f in (p.shifts, p.models):
+        st = os.stat(f)
+        h.update(f"{f}|{st.st_size}|{st.st_mtime_ns}|{p.chain}".encode())
+    root = HERE.parent / "shiftcheck"
+    for sub in ("predict", "structure", "io", "data"):
+        for f in sorted((root / sub).glob("*")):
+            if f.suffix in (".py", ".json"):
+                h.update(f.read_bytes())
+    return h.hexdigest()[:20]
+
+
+def _warm(ds, settings) -> None:
+    """Compute the lazily cached parts of the features (all ring models, hydrogen bonds,
+    anisotropy, burial with the calibration settings) so that they are stored in the cache."""
+    from shiftcheck.predict.calibrate import RING_MODELS
+
+    sf = ds.features
+    for rm in RING_MODELS:
+        sf.ring(rm)
+    sf.hbond()
+    sf.hbond_basis()
+    for nuc in settings["groups"]:
+        sf.anisotropy(nuc)
+        sf.burial(nuc, settings.get("burial"))
+
+
+def load(pair_list=None, cache: bool = True):
+    """Datasets (shiftcheck.predict.calibrate.Dataset) for the pairs.
+
+    With ``cache`` (default) each pair's featurised dataset is pickled under
+    ``<repo>/.cache/features/`` (outside git; ``SHIFTCHECK_CACHE`` overrides the folder) and
+    reused while its input files and the predictor/reader code and data files are unchanged.
+    """
+    import pickle
+
     from shiftcheck.io.coords import read_models
-    from shiftcheck.predict.calibrate import build_dataset
+    from shiftcheck.predict.calibrate import build_dataset, load_settings
     from shiftcheck.structure.mapping import map_sequence
 
     pair_list = pair_list if pair_list is not None else pairs()
+    settings = load_settings()
+    cdir = Path(os.environ.get("SHIFTCHECK_CACHE") or HERE.parent / ".cache" / "features")
     n_per: dict[str, int] = {}
     for p in pair_list:
         n_per[p.shifts] = n_per.get(p.shifts, 0) + 1
-    out, cache = [], {}
+    out, lists = [], {}
     for p in pair_list:
-        if p.shifts not in cache:
-            try:
-                cache[p.shifts] = read_shifts_any(p.shifts)
-            except Exception as exc:  # interim reader only
-                print(f"skipping {p.shifts}: {exc}", file=sys.stderr)
-                cache[p.shifts] = None
-        sl = cache[p.shifts]
-        if sl is None:
+        f = cdir / f"{_cache_key(p)}.pkl" if cache else None
+        if f is not None and f.exists():
+            out += pickle.loads(f.read_bytes())
             continue
+        if p.shifts not in lists:
+            lists[p.shifts] = read_shifts_any(p.shifts)
+        sl = lists[p.shifts]
+        got = []
         for ens in read_models([p.models], chain=p.chain):
             mp = map_sequence(sl, ens)
-            out.append(build_dataset(sl, ens, mp.seq_to_res, p.label, p.shifts, 1.0 / n_per[p.shifts]))
+            got.append(build_dataset(sl, ens, mp.seq_to_res, p.label, p.shifts, 1.0 / n_per[p.shifts]))
+            _warm(got[-1], settings)
+        if f is not None:
+            cdir.mkdir(parents=True, exist_ok=True)
+            tmp = f.with_suffix(".tmp")
+            tmp.write_bytes(pickle.dumps(got))
+            os.replace(tmp, f)
+        out += got
     return out

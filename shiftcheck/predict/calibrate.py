@@ -11,11 +11,14 @@ Procedure
    as the target. Chain-terminus atoms are left out (:func:`shiftcheck.chem.nuclei.at_chain_terminus`).
 2. Rows of a shift list share a weight of 1 (a list paired with two structures gives each pair
    weight 1/2), so every protein counts once.
-3. Solve (λ per nucleus class, ``ridge_lambda`` in the settings); estimate one referencing offset per shift list and nucleus class as the median residual,
+3. Solve (λ per nucleus class chosen from the ``ridge_lambda`` grid of the settings by
+   leave-one-protein-out cross-validation, :mod:`shiftcheck.predict.crossval`); estimate one referencing offset per shift list and nucleus class as the median residual,
    centre the offsets on their median across lists, subtract them and solve again
    (``referencing_iterations`` times), so badly referenced entries do not bias the fit.
 4. Leave one shift list out: fit on the others, predict it, subtract its median residual, and
-   pool the squared errors: this is the ``expected_error`` stored in the file. The default ring
+   pool the errors: their RMSD is ``loo_rmsd``; the ``expected_error`` stored in the file is the
+   tail-matched scale of the same residuals (:func:`tail_scale`), so that the 3σ flag fires on
+   held-out proteins as often as it would for normal errors. The default ring
    model is the one with the lowest pooled leave-one-out error over the proton classes.
 """
 from __future__ import annotations
@@ -30,6 +33,7 @@ from ..chem.nuclei import at_chain_terminus, entity_ends
 from ..datafiles import load_data
 from ..defaults import RING_MODELS
 from ..errors import InputError
+from .crossval import tail_scale
 from .features import StructureFeatures
 from .params import FORMAT
 from .randomcoil import load_table
@@ -39,11 +43,11 @@ if TYPE_CHECKING:
     from ..structure.ensemble import Ensemble
 
 __all__ = ["Pair", "Dataset", "read_pairs_file", "load_settings", "build_dataset", "load_datasets",
-           "collect", "ridge_lambda", "ridge_solve", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
+           "collect", "ridge_lambda", "lambda_grid", "ridge_solve", "tail_scale", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
 
 PROTON_CLASSES = ("H", "HA", "HMe", "Haro")
 _GROUP_RANK = {"const": 0, "res:": 1, "prev:": 2, "next:": 3, "conf:": 4, "ring:": 5, "hb:": 6, "aniso:": 7,
-               "bur:": 8, "hse:": 9}
+               "bur:": 8, "hse:": 9, "hbx:": 10, "sc:": 11}
 
 
 @dataclass
@@ -154,12 +158,16 @@ def ridge_lambda(settings: dict, nucleus: str) -> float:
 
 
 def collect(datasets: list[Dataset], nucleus: str, groups, ring_model: str, orders=(2, 1),
-            names: list[str] | None = None, burial: dict | None = None):
+            names: list[str] | None = None, burial: dict | None = None, screen: dict | None = None,
+            models: str = "mean"):
     """Rows of one nucleus class: (names, X (N, k), y = measured − random coil, dataset index, weight).
 
     ``orders`` is the ``conformation`` setting (dict) or the two Fourier orders. Features of NMR
-    ensembles are averaged over the models. ``burial`` is the ``burial`` setting.
+    ensembles are averaged over the models (``models="first"``: model 1 only, for comparison).
+    ``burial`` is the ``burial`` setting. ``screen`` is the ``target_screen`` setting: rows with
+    |measured − random coil| above ``max_abs_secondary[nucleus]`` are left out.
     """
+    bound = float((screen or {}).get("max_abs_secondary", {}).get(nucleus, np.inf))
     groups = tuple(groups)
     if names is None:
         seen: dict[str, int] = {}
@@ -172,8 +180,8 @@ def collect(datasets: list[Dataset], nucleus: str, groups, ring_model: str, orde
     for i, d in enumerate(datasets):
         _, _, X, sel = d.features.matrix(nucleus, names, groups, ring_model, orders, burial)
         y = d.measured[sel] - d.features.rc[:, sel].mean(axis=0)
-        ok = np.isfinite(y)
-        Xs.append(X.mean(axis=0)[ok]), ys.append(y[ok])
+        ok = np.isfinite(y) & (np.abs(y) <= bound)
+        Xs.append((X[0] if models == "first" else X.mean(axis=0))[ok]), ys.append(y[ok])
         ds.append(np.full(ok.sum(), i)), ws.append(np.full(ok.sum(), d.weight))
     return (list(names), np.concatenate(Xs) if Xs else np.zeros((0, len(names))),
             np.concatenate(ys), np.concatenate(ds), np.concatenate(ws))
@@ -220,63 +228,80 @@ def loo_rows(names, X, y, d, w, group_of: np.ndarray, lam: float, iterations: in
     return pred
 
 
-def _loo_error(y, pred, d, w, group_of):
-    """Pooled RMSD after removing each group's median residual (its referencing offset)."""
-    r = y - pred
-    ok = np.isfinite(r)
-    for g in np.unique(group_of[ok]):
-        s = ok & (group_of == g)
-        r[s] -= np.median(r[s])
-    return float(np.sqrt(np.average(r[ok] ** 2, weights=w[ok]))) if ok.any() else float("nan")
+def lambda_grid(settings: dict, nucleus: str) -> list[float]:
+    """Candidate ridge strengths of one class: ``ridge_lambda.grid`` (or the fixed value)."""
+    rl = settings["ridge_lambda"]
+    return [float(v) for v in rl["grid"]] if "grid" in rl else [ridge_lambda(settings, nucleus)]
 
 
 def calibrate(datasets: list[Dataset], settings: dict | None = None, description: str = "",
               ring_models=RING_MODELS) -> dict:
     """Fit all coefficients and return a parameter dict (see :mod:`shiftcheck.predict.params`)."""
+    from .crossval import GroupedRows, choose_lambda, pooled_error
+
     settings = settings or load_settings()
     it = int(settings["referencing_iterations"]["value"])
     orders = settings["conformation"]
     src = f"fitted by `shiftcheck calibrate` on {description or f'{len(datasets)} pairs'}"
     groups_all = sorted({d.group for d in datasets})
     gid = {g: i for i, g in enumerate(groups_all)}
-    coeffs, errors, proton_sse = {}, {}, {}
+    coeffs, errors, proton_sse, lams, scales = {}, {}, {}, {}, {}
     for rm in ring_models:
-        coeffs[rm], errors[rm], proton_sse[rm] = {}, {}, [0.0, 0.0]
+        coeffs[rm], errors[rm], proton_sse[rm], lams[rm], scales[rm] = {}, {}, [0.0, 0.0], {}, {}
         for nuc, groups in settings["groups"].items():
-            lam = ridge_lambda(settings, nuc)
-            names, X, y, d, w = collect(datasets, nuc, groups, rm, orders, burial=settings.get("burial"))
+            names, X, y, d, w = collect(datasets, nuc, groups, rm, orders, burial=settings.get("burial"),
+                                        screen=settings.get("target_screen"))
             if y.size < len(names) // 4 + 2:
                 continue
-            beta, _ = fit_rows(names, X, y, d, w, lam, it)
-            coeffs[rm][nuc] = {"source": src, "names": names, "values": [float(v) for v in beta]}
             group_of = np.array([gid[datasets[k].group] for k in d])
-            if len(groups_all) > 1:
-                err = _loo_error(y, loo_rows(names, X, y, d, w, group_of, lam, it), d, w, group_of)
+            rows = GroupedRows(names, X, y, d, w, group_of)
+            grid = lambda_grid(settings, nuc)
+            if len(groups_all) > 2 and len(grid) > 1:
+                lam, _ = choose_lambda(rows, grid, it)
             else:
-                err = _loo_error(y, X @ beta, d, w, group_of)
+                lam = ridge_lambda(settings, nuc) if "value" in settings["ridge_lambda"] else grid[0]
+            lams[rm][nuc] = lam
+            beta, _ = rows.fit(lam, it)
+            coeffs[rm][nuc] = {"source": src, "names": names, "values": [float(v) for v in beta]}
+            pred = rows.loo(lam, it) if len(groups_all) > 1 else X @ beta
+            err = pooled_error(y, pred, w, group_of)
             errors[rm][nuc] = err
+            scales[rm][nuc] = tail_scale(y, pred, group_of, float(settings["expected_error"]["tail"]))
             if nuc in PROTON_CLASSES and np.isfinite(err):
                 proton_sse[rm][0] += err ** 2 * w.sum()
                 proton_sse[rm][1] += w.sum()
     best = min(ring_models, key=lambda m: proton_sse[m][0] / max(proton_sse[m][1], 1e-12))
     loo = "leave-one-protein-out" if len(groups_all) > 1 else "in-sample (only one shift list)"
     table = load_table()
+    rl = {k: v for k, v in settings["ridge_lambda"].items() if k != "source"}
+    rl.update({"by_nucleus": lams[best], "by_ring_model": lams,
+               "source": f"{src}: per nucleus class the grid value with the lowest {loo} RMSD "
+                         f"(grouped cross-validation, {settings['ridge_lambda'].get('source', '')})"})
     return {
         "format": FORMAT, "version": "1",
         "description": "Parameters of the shiftcheck shift predictor. " + src + ".",
         "random_coil": table,
         "default_ring_model": {"value": best, "source": f"{src}: lowest {loo} RMSD pooled over the proton classes"},
-        "ridge_lambda": settings["ridge_lambda"],
+        "ridge_lambda": rl,
         "referencing_iterations": settings["referencing_iterations"],
         "conformation": settings["conformation"],
         **({"burial": settings["burial"]} if "burial" in settings else {}),
         "groups": settings["groups"],
+        **({"target_screen": settings["target_screen"]} if "target_screen" in settings else {}),
         "coefficients": coeffs,
-        "expected_error": {"source": f"{loo} RMSD (ppm, referencing offset removed) computed by "
-                                     f"`shiftcheck calibrate` with the default ring model on {description or 'its input'}",
-                           "values": {k: round(v, 4) for k, v in errors[best].items() if np.isfinite(v)},
+        "expected_error": {"source": f"tail-matched scale of the {loo} residuals (ppm, each protein's "
+                                     f"referencing offset removed): the {settings['expected_error']['tail']:g} "
+                                     f"quantile of |residual| divided by 3, so that |z| > 3 occurs as often as for a "
+                                     f"normal distribution; computed by `shiftcheck calibrate` with the default ring "
+                                     f"model on {description or 'its input'} ({settings['expected_error']['source']})",
+                           "values": {k: round(v, 4) for k, v in scales[best].items() if np.isfinite(v)},
                            "by_ring_model": {m: {k: round(v, 4) for k, v in e.items() if np.isfinite(v)}
-                                             for m, e in errors.items()}},
+                                             for m, e in scales.items()}},
+        "loo_rmsd": {"source": f"{loo} RMSD (ppm, referencing offset removed) computed by "
+                               f"`shiftcheck calibrate` on {description or 'its input'}",
+                     "values": {k: round(v, 4) for k, v in errors[best].items() if np.isfinite(v)},
+                     "by_ring_model": {m: {k: round(v, 4) for k, v in e.items() if np.isfinite(v)}
+                                       for m, e in errors.items()}},
         "training": {"source": src, "pairs": [d.label for d in datasets],
                      "n_shift_lists": len(groups_all)},
     }

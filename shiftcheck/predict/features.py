@@ -19,6 +19,11 @@ anisotropy     anisotropy      peptide-group McConnell terms (``aniso:co_aniso_x
                                :mod:`shiftcheck.predict.anisotropy`)
 burial         burial          contact density and half-sphere exposure (``bur:8``, ``hse:up``;
                                :mod:`shiftcheck.predict.burial`)
+hbond_basis    hbond           fitted distance/angle basis of H···O contacts (``hbx:bb_r2.2_lin``;
+                               :mod:`shiftcheck.predict.hbond_basis`)
+sidechain      conformation    χ1/χ2 Fourier terms per side-chain class (``sc:beta_chi1_cos1``;
+                               :mod:`shiftcheck.predict.sidechain`; orders in the ``conformation``
+                               setting's ``sidechain`` entry)
 =============  ==============  ===================================================================
 """
 from __future__ import annotations
@@ -41,7 +46,7 @@ __all__ = ["GROUP_TERM", "HBOND_FEATURES", "Targets", "StructureFeatures", "find
 
 GROUP_TERM = {"offset": "sequence", "neighbour": "sequence", "conformation": "conformation",
               "ring_current": "ring_current", "hbond": "hbond", "anisotropy": "anisotropy",
-              "burial": "burial"}
+              "burial": "burial", "hbond_basis": "hbond", "sidechain": "conformation"}
 #: Hydrogen-bond features used per nucleus class (names from shiftcheck.predict.hbond).
 HBOND_FEATURES = {"H": ("hn_r3", "hn_r3_sc"), "N": ("n_hb",), "HA": ("ha_r3",), "C": ("c_hb",)}
 _BACKBONE_NAMES = ("H", "HA", "HA2", "HA3", "CA", "CB", "C", "N")
@@ -109,6 +114,7 @@ class StructureFeatures:
     _rings: object = None
     _aniso: dict = field(default_factory=dict)
     _burial: dict = field(default_factory=dict)
+    _hbx: dict | None = None
 
     @classmethod
     def from_ensemble(cls, ens: Ensemble, conditions=None, table: dict | None = None) -> "StructureFeatures":
@@ -141,6 +147,14 @@ class StructureFeatures:
 
             self._hb = hbond_features(self.ens, self.targets.atom_index)
         return self._hb
+
+    def hbond_basis(self) -> dict[str, np.ndarray]:
+        """Fitted-shape hydrogen-bond basis of all targets (cached)."""
+        if getattr(self, "_hbx", None) is None:
+            from .hbond_basis import basis_features
+
+            self._hbx = basis_features(self.ens, self.targets.atom_index)
+        return self._hbx
 
     def anisotropy(self, nucleus: str) -> dict[str, np.ndarray]:
         """McConnell peptide-group features of the targets of one nucleus class (cached)."""
@@ -210,6 +224,18 @@ class StructureFeatures:
             hb = self.hbond()
             for f in HBOND_FEATURES[nucleus]:
                 cols[f"hb:{f}"] = ("hbond", np.nan_to_num(np.asarray(hb[f], float)[:, sel]))
+        if "hbond_basis" in groups:
+            for f, g in self.hbond_basis().items():
+                cols[f] = ("hbond_basis", g[:, sel])
+        if "sidechain" in groups:
+            from .sidechain import chi2, sidechain_features
+
+            if "chi2" not in self.torsions:
+                self.torsions["chi2"] = chi2(self.ens)
+            sn, sfe = sidechain_features(self.torsions, self.ens.res_name,
+                                         (conf.get("sidechain") or {}).get(nucleus))
+            for k, n in enumerate(sn):
+                cols[f"sc:{n}"] = ("sidechain", sfe[:, ri, k])
         if "anisotropy" in groups:
             for f, g in self.anisotropy(nucleus).items():
                 cols[f"aniso:{f}"] = ("anisotropy", np.nan_to_num(g))

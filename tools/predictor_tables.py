@@ -1,0 +1,94 @@
+"""Tables of docs/validation.md built from tools/validate_predictor.py's leave-one-out results:
+observed vs normal tail fractions of the expected errors, and the gap per nucleus with its cause."""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+
+HERE = Path(__file__).resolve().parent
+
+
+CAUSES = {
+    "H": "amide H depends on hydrogen-bond geometry and solvent exposure, which NMR models and "
+         "re-calculations reproduce poorly (the fitted distance/angle basis gains 0.010 ppm, not more), and "
+         "the hydrogen-bond terms see no inter-chain bonds in the dimers",
+    "HA": "within 0.03 ppm; the remaining error is spread over proteins (no single outlier protein)",
+    "CA": "dominated by a few proteins fitted from re-calculated models (worst listed); no correction for "
+          "deuterium isotope effects or for sample conditions beyond temperature/pH",
+    "CB": "as CA; in addition cysteine redox state is taken from the model's SG–SG distances, so a model "
+          "without its disulfides mispredicts oxidised cysteines by ~13 ppm (the reason 6nbn uses its AMBER model)",
+    "C": "carbonyl shifts depend on hydrogen bonds to O and on the following residue; both terms are "
+         "present but coarse, and several entries have C' referencing offsets of 0.5 ppm or more",
+    "N": "N depends on the preceding residue's side chain and conformation and on the H-bond of its own H; "
+         "these terms help (ablation) but leave the largest relative gap; the worst proteins are "
+         "re-calculations and lists with large N offsets",
+}
+
+
+def unmet(ds, results, full, GOALS, BACKBONE):
+    p = json.loads((HERE.parent / "shiftcheck/data/params_default.json").read_text())
+    after = p["loo_rmsd"]["values"]
+    lines = ["", "### Unmet goals: gap and cause per nucleus", "",
+             "| nucleus | LOO RMSD | goal | gap | worst held-out proteins (RMSD) | cause (judgement) |",
+             "|---|---|---|---|---|---|"]
+    for nuc in BACKBONE:
+        per = {}
+        for i, (m, _, pm) in results[(full, nuc)][0].items():
+            if m.size > 10:
+                r = m - pm - np.median(m - pm)
+                key = ds[i].group.split("/")[-2]
+                per.setdefault(key, []).append(float(np.sqrt(np.mean(r ** 2))))
+        worst = sorted(((np.mean(v), k) for k, v in per.items()), reverse=True)[:3]
+        gap = after[nuc] - GOALS[nuc]
+        lines.append(f"| {nuc} | {after[nuc]:.3f} | {GOALS[nuc]} | {gap:+.3f} | "
+                     + ", ".join(f"{k} {v:.2f}" for v, k in worst) + f" | {CAUSES[nuc] if gap > 0 else 'met'} |")
+    lines += ["", "Not done in this round: per-state expected errors in the scorer (the tail table shows |z| > 3 "
+              "per state within about 0.1-0.4 % of normal with one σ per class, so the gain would be small); "
+              "inter-chain through-space terms for the homodimers; a residue-level outlier rule (several atoms "
+              "of one residue each just below 3σ)."]
+    return lines
+
+
+def tails(ds, settings, rm, loo, LAMS, NUCLEI):
+    """Observed tail fractions of held-out z = residual / expected error vs the normal distribution."""
+    from shiftcheck.score.secondary import assign_secondary
+
+    p = json.loads((HERE.parent / "shiftcheck/data/params_default.json").read_text())
+    ee, rmsd = p["expected_error"]["values"], p["loo_rmsd"]["values"]
+    lines = ["", "### Expected errors: observed vs normal tail fractions (held-out residuals)", "",
+             "z = (leave-one-protein-out residual, referencing offset removed) / σ. σ = the shipped "
+             "`expected_error` (tail-matched: the 99.73 % quantile of |residual| / 3, calibrate.tail_scale), "
+             "which the score and the 3σ flag divide by; for comparison σ = the RMSD. A normal distribution "
+             "gives 4.55 % beyond 2σ and 0.27 % beyond 3σ. Secondary structure (H helix / E strand / C other) "
+             "of model 1 by shiftcheck's assignment (score/secondary.py).", "",
+             "| nucleus | N | σ shipped | >2σ | >3σ | >3σ in H / E / C | σ = RMSD | >2σ | >3σ |",
+             "|---|---|---|---|---|---|---|---|---|", "| normal | | | 4.55 % | 0.27 % | | | 4.55 % | 0.27 % |"]
+    for nuc in NUCLEI:
+        res = loo(ds, nuc, settings["groups"][nuc], rm, settings, lam=LAMS[rm].get(nuc))
+        rr, ss = [], []
+        for i, (m, _, pm) in res.items():
+            if not m.size:
+                continue
+            r = m - pm
+            rr.append(r - np.median(r))
+            sf = ds[i].features
+            sel = np.flatnonzero(sf.targets.nucleus == nuc)
+            meas, rc = ds[i].measured[sel], sf.rc[:, sel].mean(axis=0)
+            bound = float(settings.get("target_screen", {}).get("max_abs_secondary", {}).get(nuc, np.inf))
+            ok = np.isfinite(meas) & (np.abs(meas - rc) <= bound)
+            ss.append(np.array(list(assign_secondary(sf.ens)[0]))[sf.targets.res_index[sel][ok]])
+        r, s = np.abs(np.concatenate(rr)), np.concatenate(ss)
+        z = r / ee[nuc]
+        per = " / ".join(f"{np.mean(z[s == c] > 3) * 100:.2f}" for c in "HEC")
+        z2 = r / rmsd[nuc]
+        lines.append(f"| {nuc} | {r.size} | {ee[nuc]:.3f} | {np.mean(z > 2) * 100:.2f} % | {np.mean(z > 3) * 100:.2f} % | "
+                     f"{per} % | {rmsd[nuc]:.3f} | {np.mean(z2 > 2) * 100:.2f} % | {np.mean(z2 > 3) * 100:.2f} % |")
+    lines += ["", "Reading: held-out residuals have heavier tails than a normal distribution, so no single "
+              "normal σ matches both columns. With σ = RMSD, |z| > 3 is 3-8 times as frequent as for a normal "
+              "distribution, i.e. a 3σ flag would fire on correct structures far more often than it claims; the "
+              "shipped σ matches |z| > 3 by construction (per nucleus class, pooled over the 23 proteins) at the "
+              "price of fewer |z| > 2 events than normal. The per-state columns show how far one σ per class is "
+              "from per-state calibration; per-state σ are not used by the scorer (see Unmet goals)."]
+    return lines
