@@ -239,3 +239,22 @@ def result_geometry(res) -> dict[str, dict]:
         except AttributeError:          # a frozen/slotted result: just recompute next time
             pass
     return got
+
+
+def summary_lines(records: list[dict], limit: int = 30) -> list[str]:
+    """Text lines for the console and the report: one per model, then one per bad model."""
+    if not records:
+        return []
+    lines = [f"  {str(r['model'])[:28]:<28} {describe(r)}" + ("  WARNING" if r.get("bad") else "")
+             for r in records[:limit]]
+    if len(records) > limit:
+        lines.append(f"  ... {len(records) - limit} more in ranking.csv")
+    bad = [r for r in records if r.get("bad")]
+    if bad:
+        lines.append(f"  Warning: {len(bad)} of {len(records)} models have geometry that cannot be "
+                     "trusted (their predicted shifts mean little; ranked all the same):")
+        for r in bad[:8]:
+            lines.append(f"    {r['model']}: " + "; ".join(r.get("reasons") or []))
+        if len(bad) > 8:
+            lines.append(f"    ... {len(bad) - 8} more (summary.json geometry)")
+    return lines
