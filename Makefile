@@ -3,7 +3,7 @@ PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
 
-.PHONY: demo test install clean validation bench
+.PHONY: demo test install clean validation bench decoys
 
 $(BIN)/shiftcheck: pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -27,6 +27,12 @@ SHIFTCHECK_REALDATA ?= ../shared/realdata
 validation: install
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_predictor.py
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_scoring.py
+
+# Fold-selection decoys (minimised torsion decoys + threaded wrong folds) into .cache/decoys/
+# (outside git); development-only OpenMM + PDBFixer; about 15 min on 2 cores, fixed seeds.
+decoys: install
+	$(BIN)/python -m pip install --quiet -e '.[decoys]'
+	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/plausible_decoys.py
 
 bench: install
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python benchmarks/bench_read.py
