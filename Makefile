@@ -22,11 +22,13 @@ test: install
 clean:
 	rm -rf $(VENV) demo_output
 
-# Regenerates docs/validation.md (both sections) from the public data in $(SHIFTCHECK_REALDATA).
+# Regenerates docs/validation.md (all sections) from the public data in $(SHIFTCHECK_REALDATA);
+# the fold-selection section needs the decoy cache of `make decoys`.
 SHIFTCHECK_REALDATA ?= ../shared/realdata
 validation: install
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_predictor.py
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_scoring.py
+	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_folds.py
 
 # Fold-selection decoys (minimised torsion decoys + threaded wrong folds) into .cache/decoys/
 # (outside git); development-only OpenMM + PDBFixer; about 15 min on 2 cores, fixed seeds.
