@@ -14,8 +14,10 @@ Per training protein (the native: its X-ray structure where the pairs file has o
   passes the geometry rule (not 'bad' by shiftcheck/data/geometry_quality.json), else the next
   candidate of the bin is tried.
 * ``thread``: the native sequence on another protein's backbone (N, CA, C, O of a window of the
-  donor's chain; a donor shorter than the native, down to 80 %, gets the missing terminal residues
-  built by PDBFixer), side chains and hydrogens rebuilt by PDBFixer, minimised, geometry-checked.
+  donor's chain; only donors at least as long as the native by default, so the largest protein,
+  sensory rhodopsin, 218 residues, gets no threaded decoys; ``thread_backbone`` can leave
+  terminal residues for PDBFixer to build, but that was slow and mostly rejected), side chains and
+  hydrogens rebuilt by PDBFixer, minimised, geometry-checked.
   Per donor the window (every second start) with the fewest Ramachandran outliers of the native
   sequence on the donor's phi/psi is used; donors are tried in that order, one decoy per donor.
 Minimisation: Amber ff14SB (amber14-all.xml, Maier et al. 2015 J. Chem. Theory Comput. 11:3696),
@@ -232,9 +234,11 @@ def _record(path: Path, native, kind: str, energy: float, extra: dict) -> tuple[
     return rec, ens
 
 
-def _donors(root: Path, folder: str, L: int) -> list[tuple[str, object]]:
-    """Donor ensembles (other proteins) of length >= 0.8 L: those at least as long as the native
-    first (no residues to build), each group closest in length first."""
+def _donors(root: Path, folder: str, L: int, min_fraction: float = 1.0) -> list[tuple[str, object]]:
+    """Donor ensembles (other proteins) of length >= min_fraction * L: those at least as long as
+    the native first (no residues to build), each group closest in length first. The default
+    1.0 uses only donors at least as long as the native: building 10-40 missing terminal
+    residues with PDBFixer took minutes per try and its models were mostly rejected."""
     from shiftcheck.io.coords import read_models
 
     cands = [f"{f}/{m}" for f, (_, m) in TRAINING.items() if f != folder]
@@ -242,7 +246,7 @@ def _donors(root: Path, folder: str, L: int) -> list[tuple[str, object]]:
     out = []
     for rel in cands:
         d = heavy_only(read_models([root / rel], build_hydrogens=False)[0].select_models([0]))
-        if d.n_residues >= 0.8 * L:
+        if d.n_residues >= min_fraction * L:
             out.append((rel, d))
     out.sort(key=lambda x: (x[1].n_residues < L, abs(x[1].n_residues - L), x[0]))
     return out
