@@ -3,7 +3,7 @@ PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
 
-.PHONY: demo test install clean validation bench
+.PHONY: demo test install clean validation bench decoys
 
 $(BIN)/shiftcheck: pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -22,11 +22,19 @@ test: install
 clean:
 	rm -rf $(VENV) demo_output
 
-# Regenerates docs/validation.md (both sections) from the public data in $(SHIFTCHECK_REALDATA).
+# Regenerates docs/validation.md (all sections) from the public data in $(SHIFTCHECK_REALDATA);
+# the fold-selection section needs the decoy cache of `make decoys`.
 SHIFTCHECK_REALDATA ?= ../shared/realdata
 validation: install
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_predictor.py
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_scoring.py
+	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_folds.py
+
+# Fold-selection decoys (minimised torsion decoys + threaded wrong folds) into .cache/decoys/
+# (outside git); development-only OpenMM + PDBFixer; about 15 min on 2 cores, fixed seeds.
+decoys: install
+	$(BIN)/python -m pip install --quiet -e '.[decoys]'
+	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/plausible_decoys.py
 
 bench: install
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python benchmarks/bench_read.py

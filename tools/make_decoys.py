@@ -1,5 +1,10 @@
 """Decoys of a native structure by backbone-torsion perturbation (for fold-selection validation).
 
+These raw torsion decoys are NOT minimised and can interpenetrate (many heavy atoms closer than
+2 A; see shiftcheck.structure.quality). docs/validation.md's fold-selection tables use the
+minimised, geometry-checked decoys of tools/plausible_decoys.py, which reuses the rotation and
+superposition code here.
+
 A change of phi(i) rotates every atom downstream of the N(i)-CA(i) bond about that bond; a change
 of psi(i) rotates every atom downstream of CA(i)-C(i). Changes are applied from the C-terminus
 to the N-terminus so each rotation carries the later ones rigidly. Vectorised over decoys: one

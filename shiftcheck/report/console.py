@@ -48,6 +48,7 @@ def console_summary(res: ScoreResult, outdir: str | None = None, top: int = 10) 
         lines.append(f"  {rk.rank[i]:>4}{mark}{comp.entries[i].name[:24]:<24} {rk.score[i]:6.2f} "
                      f"{rk.low[i]:6.2f} - {rk.high[i]:6.2f} {rk.p_best[i]:6.2f}  {rms}")
     lines.append("  * = cannot be told apart from the best (beats it in >= 5 % of bootstrap replicates)")
+    lines += _geometry_lines(res)
     lines.append("")
     every = [(j, k) for j, k in enumerate(res.outliers.klass) if k == "every"]
     best = int(rk.order[0])
@@ -85,3 +86,14 @@ def console_summary(res: ScoreResult, outdir: str | None = None, top: int = 10) 
     if outdir:
         lines.append(f"Output: {outdir}")
     return "\n".join(lines)
+
+
+def _geometry_lines(res: ScoreResult) -> list[str]:
+    """Geometry of every model in rank order (clashes, chain breaks, Ramachandran outliers)."""
+    from ..structure.quality import result_geometry, summary_lines
+
+    geo = result_geometry(res)
+    recs = [geo[res.comparison.entries[i].name] for i in res.ranking.order
+            if res.comparison.entries[i].name in geo]
+    return ["", "Geometry (heavy atoms; rank order; see docs/outputs.md):"] + summary_lines(recs) if recs else []
+

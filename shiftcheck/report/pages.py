@@ -86,14 +86,23 @@ def _lines(data: ReportData) -> list[tuple[str, str]]:
             if isinstance(per, dict) and per:
                 parts = [f"{k} {fmt(v.get('value') if isinstance(v, dict) else v)}" for k, v in per.items()]
                 out.append(("m", "       per atom: " + ", ".join(parts) + " ppm"))
-    out.append(("h", "Ranking (best first)"))
+    out.append(("h", "Ranking (best first; geometry: clashes/1000 atoms, breaks, % Rama outliers)"))
+    geo = {g.get("model"): g for g in (s.get("geometry") or []) if isinstance(g, dict)}
     for row in (s.get("ranking") or [])[:6]:
         if isinstance(row, dict):
             grp = "  best group" if row.get("best_group") else ""
+            g = geo.get(row.get("model"))
+            if g:
+                grp += (f"  geometry {fmt(g.get('clashes_per_1000'), '.1f')}/{g.get('chain_breaks')}/"
+                        f"{fmt(g.get('rama_outliers_pct'), '.1f')}{' !' if g.get('bad') else ''}")
             out.append(("m", f"{row.get('rank', '-'):>3}  {str(row.get('model')):<28} score "
                              f"{fmt(row.get('score'), '.3f')} ({fmt(row.get('score_low'), '.3f')}-"
                              f"{fmt(row.get('score_high'), '.3f')})  P(best) "
                              f"{fmt(row.get('p_best'), '.2f')}{grp}"))
+    bad = [m for m, g in geo.items() if g.get("bad")]
+    if bad:
+        out.append(("t", f"Warning (!): {len(bad)} of {len(geo)} models have geometry that cannot be "
+                         "trusted; their shifts mean little (ranked all the same; summary.json geometry)"))
     params = s.get("parameters")
     if isinstance(params, dict) and params:
         out.append(("h", "Parameters"))

@@ -28,7 +28,10 @@ __all__ = ["write_tables", "summary_dict", "ranking_rows", "residue_rows", "RANK
 
 _STATS = ("rmsd", "mad", "r", "n")
 RANKING_COLUMNS = (["rank", "model", "score", "score_low", "score_high", "p_best"]
-                   + [f"{s}_{x}" for x in ALL_CLASSES for s in _STATS] + ["best_group"])
+                   + [f"{s}_{x}" for x in ALL_CLASSES for s in _STATS] + ["best_group"]
+                   + ["clashes_per_1000", "severe_pairs", "chain_breaks", "rama_outliers_pct",
+                      "geometry_warning"])
+_GEOMETRY = ("clashes_per_1000", "severe_pairs", "chain_breaks", "rama_outliers_pct")
 RESIDUE_COLUMNS = ["model", "chain", "seq_id", "comp_id", "atom_id", "measured", "predicted",
                    "residual", "z", "flag", "nucleus", "offset", "model_res"]
 
@@ -60,7 +63,10 @@ def _atomic_write(path: Path, text: str) -> None:
 
 def ranking_rows(res: ScoreResult) -> list[dict]:
     """One dict per entry, best first, with the ranking.csv columns."""
+    from ..structure.quality import result_geometry
+
     rk, comp = res.ranking, res.comparison
+    geo = result_geometry(res)
     rows = []
     for i in rk.order:
         row = {"rank": int(rk.rank[i]), "model": comp.entries[i].name, "score": _num(rk.score[i]),
@@ -70,6 +76,9 @@ def ranking_rows(res: ScoreResult) -> list[dict]:
             m = res.metrics[x]
             row.update({f"rmsd_{x}": _num(m["rmsd"][i]), f"mad_{x}": _num(m["mad"][i]),
                         f"r_{x}": _num(m["r"][i]), f"n_{x}": int(m["n"])})
+        g = geo.get(comp.entries[i].name)          # name#mean entries have no geometry
+        row.update({k: (g[k] if g else None) for k in _GEOMETRY})
+        row["geometry_warning"] = bool(g["bad"]) if g else None
         rows.append(row)
     return rows
 
@@ -217,11 +226,21 @@ def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
         "residue_summary": res.residue_summary,
         "data_checks": [f.as_dict() for f in res.findings],
         "secondary_structure": res.secondary,
+        "geometry": _geometry_records(res),
         "left_out": left,
         "warnings": list(res.warnings),
         "skipped": [{"file": str(x.file), "reason": str(x.reason)} for x in getattr(res, "skipped", [])],
         "parameters": dict(res.parameters),
     }
+
+
+def _geometry_records(res) -> list[dict]:
+    """Per-model geometry records (shiftcheck.structure.quality), in rank order."""
+    from ..structure.quality import result_geometry
+
+    geo = result_geometry(res)
+    names = [res.comparison.entries[i].name for i in res.ranking.order]
+    return [geo[n] for n in names if n in geo]
 
 
 def _json_default(o):
