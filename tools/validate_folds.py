@@ -33,8 +33,8 @@ __all__ = ["fold_run", "render", "main"]
 def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict | None:
     """Score native_min + decoys of one protein; None when the cache has no manifest."""
     from shiftcheck.io.coords import read_models
-    from shiftcheck.io.shifts import read_shifts
-    from shiftcheck.score.scoring import score
+    from shiftcheck.io.shift_formats import read_shifts
+    from shiftcheck.pipeline import score_models as score
     from shiftcheck.structure.quality import result_geometry
 
     man_path = decoys / folder / "manifest.json"
