@@ -71,7 +71,7 @@ def test_terms_sum_and_shapes(ubq):
 def test_anisotropy_term_only_where_fitted(ubq):
     # the shipped parameter file names the nucleus classes with the peptide-anisotropy group
     pred = Predictor()
-    used = {n for n, g in pred.params["groups"].items() if "anisotropy" in g}
+    used = {n for n, g in pred.load().params_["groups"].items() if "anisotropy" in g}
     assert used, "no class uses the anisotropy term"
     p = pred.predict(ubq)
     a = p.terms["anisotropy"]
@@ -87,7 +87,7 @@ def test_burial_term_only_where_fitted_and_follows_packing(ubq):
     # the shipped parameter file names the classes with the burial group (CB, C, N per
     # docs/validation.md); the term is 0 elsewhere and varies between residues where used
     pred = Predictor()
-    used = {n for n, g in pred.params["groups"].items() if "burial" in g}
+    used = {n for n, g in pred.load().params_["groups"].items() if "burial" in g}
     assert used, "no class uses the burial term"
     p = pred.predict(ubq)
     b = p.terms["burial"]
