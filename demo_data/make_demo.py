@@ -233,8 +233,8 @@ def predicted_true_shifts(model_path: Path) -> tuple[list[tuple], dict, str]:
     src = "fallback (predictor accuracy goals, from memory)"
     # the typical held-out error (leave-one-protein-out RMSD) is the width of the Gaussian noise;
     # older parameter files carry only expected_error (which was that RMSD)
-    key = "loo_rmsd" if isinstance(pred.params.get("loo_rmsd"), dict) else "expected_error"
-    exp = pred.params.get(key) if isinstance(pred.params, dict) else None
+    key = "loo_rmsd" if isinstance(pred.params_.get("loo_rmsd"), dict) else "expected_error"
+    exp = pred.params_.get(key)
     values = exp.get("values", {}) if isinstance(exp, dict) else {}
     if values:
         for k, v in values.items():

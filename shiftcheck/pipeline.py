@@ -132,11 +132,11 @@ def score_models(shifts: ShiftList, ensembles: list[Ensemble], *, mappings: list
     """
     if not ensembles:
         raise InputError("no models given")
-    predictor = Predictor(params, ring_model)
+    predictor = Predictor(params, ring_model).load()
     mappings, preds = predict_all(shifts, ensembles, predictor, mappings=mappings, min_identity=min_identity,
                                   batch_size=batch_size, mapper=mapper, progress=progress)
-    return score(shifts, ensembles, mappings, preds, params=predictor.params,
-                 ring_model=predictor.ring_model, params_source=describe_params(predictor.params.get("_path")),
+    return score(shifts, ensembles, mappings, preds, params=predictor.params_,
+                 ring_model=predictor.ring_model_, params_source=describe_params(predictor.params_.get("_path")),
                  reref=reref, k_sigma=k_sigma, n_boot=n_boot, seed=seed, include_mean=include_mean)
 
 

@@ -65,7 +65,7 @@ def test_score_models_equals_score_of_predict_all(case):
     sl, ens, pred = case
     a = score_models(sl, ens, n_boot=50, seed=3)
     m, p = predict_all(sl, ens, pred)
-    b = score(sl, ens, m, p, params=pred.params, ring_model=pred.ring_model, n_boot=50, seed=3)
+    b = score(sl, ens, m, p, params=pred.params_, ring_model=pred.ring_model_, n_boot=50, seed=3)
     assert np.array_equal(a.ranking.score, b.ranking.score)
 
 

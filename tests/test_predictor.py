@@ -71,7 +71,7 @@ def test_terms_sum_and_shapes(ubq):
 def test_anisotropy_term_only_where_fitted(ubq):
     # the shipped parameter file names the nucleus classes with the peptide-anisotropy group
     pred = Predictor()
-    used = {n for n, g in pred.params["groups"].items() if "anisotropy" in g}
+    used = {n for n, g in pred.load().params_["groups"].items() if "anisotropy" in g}
     assert used, "no class uses the anisotropy term"
     p = pred.predict(ubq)
     a = p.terms["anisotropy"]
@@ -87,7 +87,7 @@ def test_burial_term_only_where_fitted_and_follows_packing(ubq):
     # the shipped parameter file names the classes with the burial group (CB, C, N per
     # docs/validation.md); the term is 0 elsewhere and varies between residues where used
     pred = Predictor()
-    used = {n for n, g in pred.params["groups"].items() if "burial" in g}
+    used = {n for n, g in pred.load().params_["groups"].items() if "burial" in g}
     assert used, "no class uses the burial term"
     p = pred.predict(ubq)
     b = p.terms["burial"]
@@ -163,3 +163,30 @@ def test_bad_params_exit_2(realdata, tmp_path, capsys):
     bad.write_text("[]")
     assert main(["predict", str(realdata / "ubiquitin" / "1ubq.pdb"), "--params", str(bad)]) == 2
     assert str(bad) in capsys.readouterr().err
+
+
+def test_predictor_follows_the_estimator_convention(realdata, tmp_path):
+    # common practice, no source: __init__ only stores its arguments (a missing file is not read
+    # until needed), fit() returns self with the learned values in params_ / coef_, and the
+    # fitted predictor predicts with them (public BMRB/PDB pairs: ubiquitin, CI2)
+    from shiftcheck.errors import ParameterError
+    from shiftcheck.predict.calibrate import Pair
+
+    lazy = Predictor(str(tmp_path / "missing.json"), ring_model="point-dipole")
+    assert lazy.params == str(tmp_path / "missing.json") and lazy.ring_model == "point-dipole"
+    assert not hasattr(lazy, "params_")
+    with pytest.raises(ParameterError):
+        lazy.load()
+    pairs = [Pair(str(realdata / "ubiquitin/bmr17769.str"), str(realdata / "ubiquitin/1ubq.pdb")),
+             Pair(str(realdata / "ci2/bmrb4974.str"), str(realdata / "ci2/3CI2.pdb"))]
+    est = Predictor(ring_model="point-dipole")
+    assert est.fit(pairs, description="two pairs") is est
+    assert est.ring_model_ == "point-dipole" and est.params_["training"]["n_shift_lists"] == 2
+    names, values = est.coef_["CA"]
+    assert names == est.params_["coefficients"]["point-dipole"]["CA"]["names"] and len(values) == len(names)
+    shipped = Predictor(ring_model="point-dipole").load()
+    assert not np.allclose(values, shipped.coef_["CA"][1][:len(values)]) or names != shipped.coef_["CA"][0]
+    ens = read_models([str(realdata / "ubiquitin/1ubq.pdb")])[0]
+    a, b = est.predict(ens), shipped.predict(ens)
+    ca = a.nucleus == "CA"
+    assert np.all(np.isfinite(a.values[:, ca])) and not np.allclose(a.values[:, ca], b.values[:, ca])

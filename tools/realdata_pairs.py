@@ -55,18 +55,14 @@ def _cache_key(p) -> str:
 
 
 def _warm(ds, settings) -> None:
-    """Compute the lazily cached parts of the features (all ring models, hydrogen bonds,
-    anisotropy, burial with the calibration settings) so that they are stored in the cache."""
+    """Build every registered term's columns for every nucleus class and ring model with the
+    calibration settings, so that the lazily cached parts are stored in the cache."""
     from shiftcheck.predict.calibrate import RING_MODELS
 
     sf = ds.features
     for rm in RING_MODELS:
-        sf.ring(rm)
-    sf.hbond()
-    sf.hbond_basis()
-    for nuc in settings["groups"]:
-        sf.anisotropy(nuc)
-        sf.burial(nuc, settings.get("burial"))
+        for nuc, groups in settings["groups"].items():
+            sf.matrix(nuc, None, tuple(groups), rm, settings["conformation"], settings.get("burial"))
 
 
 def load(pair_list=None, cache: bool = True):

@@ -63,7 +63,7 @@ def run(args) -> int:
     check_predict_options(args)
     if args.output:                 # before any work: not a directory, not an input, writable
         check_output_file(args.output, [*args.models, args.params], "output CSV")
-    predictor = Predictor(args.params, args.ring_model)
+    predictor = Predictor(args.params, args.ring_model).load()
     cond = SampleConditions(temperature_K=args.temperature, pH=args.ph)
     buf = io.StringIO()
     writer = csv.writer(buf, lineterminator="\n")
@@ -77,7 +77,7 @@ def run(args) -> int:
         writer.writerows(rows)
         if not args.output:
             print(f"# {ens.name}: chain {ens.chain_id}, {ens.n_models} model(s), {len(pred)} atoms, "
-                  f"ring model {predictor.ring_model}")
+                  f"ring model {predictor.ring_model_}")
     if args.output:
         atomic_write_text(args.output, buf.getvalue())
         print(f"wrote {args.output}")

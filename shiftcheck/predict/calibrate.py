@@ -37,6 +37,7 @@ from .crossval import tail_scale
 from .features import StructureFeatures
 from .params import FORMAT
 from .randomcoil import load_table
+from .terms import column_rank, default_groups
 
 if TYPE_CHECKING:
     from ..shiftlist import ShiftList
@@ -46,8 +47,6 @@ __all__ = ["Pair", "Dataset", "read_pairs_file", "load_settings", "build_dataset
            "collect", "ridge_lambda", "lambda_grid", "ridge_solve", "tail_scale", "fit_rows", "loo_rows", "calibrate", "RING_MODELS", "PROTON_CLASSES"]
 
 PROTON_CLASSES = ("H", "HA", "HMe", "Haro")
-_GROUP_RANK = {"const": 0, "res:": 1, "prev:": 2, "next:": 3, "conf:": 4, "ring:": 5, "hb:": 6, "aniso:": 7,
-               "bur:": 8, "hse:": 9, "hbx:": 10, "sc:": 11}
 
 
 @dataclass
@@ -72,8 +71,12 @@ class Dataset:
 
 
 def load_settings() -> dict:
-    """Calibration settings from ``shiftcheck/data/calibration.json``."""
-    return load_data("calibration.json")
+    """Calibration settings from ``shiftcheck/data/calibration.json``; the term names per nucleus
+    class (``groups``) come from the registry (:func:`shiftcheck.predict.terms.default_groups`)
+    unless the settings list them (experiments: tools/ablation.py)."""
+    settings = load_data("calibration.json")
+    settings.setdefault("groups", default_groups())
+    return settings
 
 
 def read_pairs_file(path: str, data_dir: str | None = None) -> list[Pair]:
@@ -144,11 +147,9 @@ def load_datasets(pairs: list[Pair]) -> list[Dataset]:
 
 
 def _canonical(seen: dict[str, int]) -> list[str]:
-    """Deterministic column order: const, residue indicators (alphabetical), then first-seen order."""
-    def key(n):
-        rank = next((r for pre, r in _GROUP_RANK.items() if n.startswith(pre)), 9)
-        return (rank, n if rank == 1 else "", seen[n])
-    return sorted(seen, key=key)
+    """Deterministic column order: by column prefix in registry order
+    (:func:`shiftcheck.predict.terms.column_rank`; residue indicators alphabetical), then first seen."""
+    return sorted(seen, key=lambda n: (*column_rank(n), seen[n]))
 
 
 def ridge_lambda(settings: dict, nucleus: str) -> float:

@@ -17,21 +17,29 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from ..errors import ParameterError
-from .features import GROUP_TERM, StructureFeatures
+from .features import StructureFeatures
 from .params import load_params
 from .prediction import Prediction
+from .terms import OUTPUTS, term
 
 if TYPE_CHECKING:
     from ..structure.ensemble import Ensemble
 
 __all__ = ["Predictor", "predict", "TERMS"]
 
-#: Terms reported in :attr:`Prediction.terms`, in order.
-TERMS = ("random_coil", "sequence", "conformation", "ring_current", "hbond", "anisotropy", "burial")
+#: Terms reported in :attr:`Prediction.terms`, in order (from the registry, :mod:`shiftcheck.predict.terms`).
+TERMS = OUTPUTS
 
 
 class Predictor:
     """Predict chemical shifts of every model of an ensemble.
+
+    Follows the estimator convention: ``__init__`` only stores its arguments; :meth:`fit` learns
+    the coefficients from (shift list, structure) pairs and returns ``self``; the learned values
+    live in ``params_`` (a complete parameter dict, :mod:`shiftcheck.predict.params`),
+    ``ring_model_`` (the ring model used) and ``coef_`` ({nucleus class: (names, values)} of that
+    ring model). Without :meth:`fit`, the learned values are read from the parameter file
+    ``params`` the first time they are needed (or by :meth:`load`).
 
     Parameters
     ----------
@@ -49,17 +57,47 @@ class Predictor:
     """
 
     def __init__(self, params=None, ring_model: str | None = None):
-        self.params = load_params(params)
-        self.ring_model = ring_model or self.params["default_ring_model"]["value"]
-        if self.ring_model not in self.params["coefficients"]:
+        self.params = params
+        self.ring_model = ring_model
+
+    def _learned(self, fitted: dict) -> "Predictor":
+        rm = self.ring_model or fitted["default_ring_model"]["value"]
+        if rm not in fitted["coefficients"]:
             raise ParameterError(
-                f"ring model '{self.ring_model}' has no coefficients in the parameter file "
-                f"(available: {', '.join(self.params['coefficients'])})",
-                path=self.params.get("_path"))
+                f"ring model '{rm}' has no coefficients in the parameter file "
+                f"(available: {', '.join(fitted['coefficients'])})", path=fitted.get("_path"))
+        self.params_, self.ring_model_ = fitted, rm
+        self.coef_ = {nuc: (list(b["names"]), [float(v) for v in b["values"]])
+                      for nuc, b in fitted["coefficients"][rm].items()}
+        return self
+
+    def load(self) -> "Predictor":
+        """Read the learned values from the parameter file ``params`` (validated); returns self.
+        Raises ParameterError naming the file."""
+        return self._learned(load_params(self.params))
+
+    def fit(self, data, settings: dict | None = None, description: str = "") -> "Predictor":
+        """Learn the coefficients from (shift list, structure) pairs; returns self.
+
+        ``data`` is a list of :class:`~shiftcheck.predict.calibrate.Pair` (read with the
+        project's readers) or of already featurised :class:`~shiftcheck.predict.calibrate.Dataset`;
+        ``settings`` the calibration settings (default ``data/calibration.json``). The fit is
+        :func:`shiftcheck.predict.calibrate.calibrate`; its parameter dict becomes ``params_``.
+        """
+        from .calibrate import Pair, calibrate, load_datasets
+
+        data = list(data)
+        datasets = load_datasets(data) if data and isinstance(data[0], Pair) else data
+        return self._learned(load_params(calibrate(datasets, settings, description)))
+
+    def _check(self) -> None:
+        if not hasattr(self, "params_"):
+            self.load()
 
     def features(self, ens: Ensemble, conditions=None) -> StructureFeatures:
         """The structural features of ``ens`` (reusable for several predictions)."""
-        return StructureFeatures.from_ensemble(ens, conditions, self.params["random_coil"])
+        self._check()
+        return StructureFeatures.from_ensemble(ens, conditions, self.params_["random_coil"])
 
     def predict(self, ens: Ensemble, conditions=None, features: StructureFeatures | None = None) -> Prediction:
         """Predicted shifts of all target atoms in all models, with each term separately.
@@ -76,29 +114,26 @@ class Predictor:
         -------
         Prediction
         """
+        self._check()
         sf = features or self.features(ens, conditions)
         t = sf.targets
         n_models, n = ens.n_models, len(t)
         terms = {name: np.zeros((n_models, n)) for name in TERMS}
         terms["random_coil"] = sf.rc.copy()
-        coeffs = self.params["coefficients"][self.ring_model]
+        p = self.params_
         predicted = np.zeros(n, bool)
-        for nuc, block in coeffs.items():
-            names = list(block["names"])
-            groups = tuple(self.params["groups"][nuc])
+        for nuc, (names, values) in self.coef_.items():
             if not names:
                 continue
-            conf = self.params.get("conformation", {})
             try:
-                _, grp, X, sel = sf.matrix(nuc, names, groups, self.ring_model, conf,
-                                          self.params.get("burial"))
+                _, grp, X, sel = sf.matrix(nuc, names, tuple(p["groups"][nuc]), self.ring_model_,
+                                          p.get("conformation", {}), p.get("burial"))
             except ParameterError as exc:     # name the parameter file
-                raise ParameterError(exc.message, path=exc.path or self.params.get("_path")) from None
-            w = np.asarray(block["values"], float)
+                raise ParameterError(exc.message, path=exc.path or p.get("_path")) from None
+            w = np.asarray(values, float)
             grp = np.asarray(grp)
             for g in np.unique(grp):
-                term = GROUP_TERM[g]
-                terms[term][:, sel] += X[:, :, grp == g] @ w[grp == g]
+                terms[term(g).output][:, sel] += X[:, :, grp == g] @ w[grp == g]
             predicted[sel] = True
         values = sum(terms.values())
         values[:, ~predicted] = np.nan
@@ -108,7 +143,7 @@ class Predictor:
                           res_seq=np.asarray(ens.res_seq)[t.res_index], comp_id=t.comp_id.astype(str),
                           atom_id=t.atom_id.astype(str), nucleus=t.nucleus.astype(str),
                           values=values, terms=terms,
-                          params_source=str(self.params.get("_path", "<dict>")) + f" [{self.ring_model}]")
+                          params_source=str(p.get("_path", "<dict>")) + f" [{self.ring_model_}]")
 
 
 def predict(ens: Ensemble, params=None, ring_model: str | None = None, conditions=None) -> Prediction:

@@ -1,7 +1,8 @@
 """Load, validate and save predictor parameter files (JSON).
 
 A parameter file holds everything the predictor uses: the random-coil table with its
-corrections, the feature groups per nucleus class, the fitted coefficients for each ring-current
+corrections, the terms used per nucleus class (``groups``: names registered in
+:mod:`shiftcheck.predict.terms`), the fitted coefficients for each ring-current
 model, the default ring model and the expected error per nucleus class. Every number carries a
 source: the ``"source"`` string of the nearest enclosing JSON object
 (see :func:`numeric_sources`). The random-coil table is stored once, in
@@ -91,6 +92,15 @@ def validate_params(params: dict, path: str | None = None) -> dict:
     drm = params["default_ring_model"]
     if not isinstance(drm, dict) or drm.get("value") not in params["coefficients"]:
         bad("default_ring_model must name one of the fitted ring models in 'coefficients'")
+    from .terms import REGISTRY, term_of_column
+
+    registered = {t.name for t in REGISTRY}
+    if not isinstance(params["groups"], dict):
+        bad("groups must map nucleus classes to lists of term names")
+    for nuc, names in params["groups"].items():
+        unknown = [g for g in names if g not in registered] if isinstance(names, list) else [names]
+        if unknown:
+            bad(f"groups/{nuc}: unknown term {unknown[0]!r} (registered: {', '.join(sorted(registered))})")
     for rm, per in params["coefficients"].items():
         if not isinstance(per, dict):
             bad(f"coefficients/{rm} must be an object")
@@ -102,6 +112,10 @@ def validate_params(params: dict, path: str | None = None) -> dict:
                 bad(f"coefficients/{rm}/{nuc}: 'names' and 'values' must be lists of equal length")
             if not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in values):
                 bad(f"coefficients/{rm}/{nuc}: non-numeric coefficient")
+            stray = [n for n in names if not isinstance(n, str) or term_of_column(n) is None
+                     or term_of_column(n).name not in params["groups"][nuc]]
+            if stray:
+                bad(f"coefficients/{rm}/{nuc}: column {stray[0]!r} belongs to no term listed in groups/{nuc}")
     ee = params["expected_error"].get("values", {}) if isinstance(params["expected_error"], dict) else None
     if not isinstance(ee, dict) or not all(isinstance(v, (int, float)) and v > 0 for v in ee.values()):
         bad("expected_error/values must map nucleus classes to positive numbers")
