@@ -3,8 +3,8 @@
 Models are built from the 20 NMR models of ``this/2k5p.pdb`` (SHIFTCHECK_REALDATA) in a temp
 directory: COUNT models as one multi-model PDB file and as COUNT single-model files (model k is
 model k mod 20). Each run is a fresh ``python -m shiftcheck score`` subprocess; its peak RSS is
-``ru_maxrss`` of the child (resource.getrusage(RUSAGE_CHILDREN) after it ends, one child at a
-time; worker processes of --jobs N report their own peak, the largest is printed too).
+``ru_maxrss`` from ``os.wait4`` of that child: the largest of the child and the worker
+processes it reaped (the peak of one process, not the sum over --jobs N processes).
 
     PYTHONPATH=$PWD python benchmarks/bench_scale.py memory 1000 10000 --jobs 2
     PYTHONPATH=$PWD python benchmarks/bench_scale.py speedup 1000
@@ -15,7 +15,6 @@ from __future__ import annotations
 
 import argparse
 import os
-import resource
 import subprocess
 import sys
 import tempfile
@@ -66,14 +65,16 @@ def run(shifts: Path, models, out: Path, jobs: int) -> tuple[float, float]:
            "'--no-report', '--quiet', '--force', '--jobs', sys.argv[4]]))",
            str(shifts), str(listing), str(out), str(jobs)]
     listing.write_text("\n".join(str(m) for m in models))
-    before = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
     t = time.perf_counter()
-    r = subprocess.run(cmd, capture_output=True, text=True, env=dict(os.environ, PYTHONPATH=os.getcwd()))
+    err = out.with_suffix(".err")
+    with open(err, "w") as fh:
+        proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=fh,
+                                env=dict(os.environ, PYTHONPATH=os.getcwd()))
+        _, status, usage = os.wait4(proc.pid, 0)      # this child (and the workers it reaped)
     wall = time.perf_counter() - t
-    if r.returncode != 0:
-        sys.exit(r.stderr[-2000:])
-    peak = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
-    return wall, max(peak, before) / 1024.0
+    if os.waitstatus_to_exitcode(status) != 0:
+        sys.exit(err.read_text()[-2000:])
+    return wall, usage.ru_maxrss / 1024.0
 
 
 def main(argv=None) -> None:
