@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import os
 import re
+from collections import Counter
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -45,16 +46,16 @@ def distinct_labels(paths) -> list[str]:
     ['a/x/m.pdb', 'b/x/m.pdb', 'n.pdb']
     """
     parts = [Path(os.path.abspath(str(p))).parts for p in paths]
-    labels = []
-    for i, pi in enumerate(parts):
-        k = 1
-        while True:
-            tail = pi[-k:]
-            clash = [j for j, pj in enumerate(parts) if j != i and pj[-k:] == tail and pj != pi]
-            if not clash or k >= len(pi):
-                break
-            k += 1
-        labels.append("/".join(tail))
+    distinct = list(dict.fromkeys(parts))
+    depth: dict[tuple, int] = {}
+    pending, k = set(distinct), 1
+    while pending:                         # counting tails: linear in the number of files
+        count = Counter(pi[-k:] for pi in distinct)
+        for pi in [pi for pi in pending if count[pi[-k:]] == 1 or k >= len(pi)]:
+            depth[pi] = k
+            pending.discard(pi)
+        k += 1
+    labels = ["/".join(pi[-depth[pi]:]) for pi in parts]
     seen: dict[str, int] = {}
     out = []
     for lab in labels:

@@ -25,6 +25,7 @@ from .score.scoring import ScoreResult, score
 from .shiftlist import ShiftList
 from .structure.ensemble import Ensemble
 from .structure.mapping import Mapping, map_sequence
+from .stream import describe_params
 
 __all__ = ["Batch", "BatchResult", "model_batches", "predict_batch", "reduce_batches", "predict_all",
            "score_models", "score_files", "describe_params"]
@@ -142,49 +143,27 @@ def score_models(shifts: ShiftList, ensembles: list[Ensemble], *, mappings: list
 
 def score_files(shift_path, model_paths, *, list_id=None, entity_id=None, chain: str | None = None,
                 temperature: float | None = None, ph: float | None = None, strict: bool = False,
-                on_models: Callable | None = None, **options) -> ScoreResult:
-    """Read a shift file and coordinate files, then :func:`score_models` (same keyword options).
+                on_models: Callable | None = None, jobs: int | None = 1, scheduler: str | None = None,
+                models_per_task: int | None = None, **options) -> ScoreResult:
+    """Read a shift file and coordinate files and score them, streamed (:mod:`shiftcheck.stream`):
+    the models are read, mapped and predicted a file (or a run of ``models_per_task`` MODEL
+    records) at a time, on ``jobs`` local processes (None: all cores) or the Dask scheduler at
+    ``scheduler``; only the predictions on the compared atoms are kept. The results equal
+    :func:`score_models` on the same models (tests/test_streaming.py).
 
-    A model file that cannot be read, has no protein chain or does not map onto the shift list
-    is skipped (``ScoreResult.skipped`` says which and why) unless ``strict``, when it raises
-    the usual one-line error; no model left raises with every reason. ``on_models(ensembles,
-    skipped)`` is called once the models are read and mapped, before any prediction (the CLI
-    checks ``--show`` names and prints the skips there). ``temperature`` (K) and ``ph`` replace
-    the sample conditions read from the shift file (NEF files carry none).
+    Keyword options are those of :func:`score_models` (``batch_size`` and ``mapper`` do not
+    apply). A model file that cannot be read, has no protein chain or does not map onto the
+    shift list is skipped (``ScoreResult.skipped`` says which and why) unless ``strict``, when it
+    raises the usual one-line error; no model left raises with every reason. ``on_models(infos,
+    skipped)`` is called once every model is read, before the scoring (the CLI checks ``--show``
+    names and prints the skips there). ``temperature`` (K) and ``ph`` replace the sample
+    conditions read from the shift file (NEF files carry none).
     """
-    from .io.shift_formats import read_shifts
-    from .isolation import map_models_tolerant, no_model_left, read_models_tolerant
+    from .stream import DEFAULT_MODELS_PER_TASK, score_stream
 
-    shifts = read_shifts(shift_path, list_id=list_id, entity_id=entity_id)
-    if temperature is not None:
-        shifts.conditions.temperature_K = temperature
-    if ph is not None:
-        shifts.conditions.pH = ph
-    ensembles, skipped = read_models_tolerant(model_paths, chain=chain, strict=strict)
-    ensembles, mappings, unmapped = map_models_tolerant(shifts, ensembles, options.get("min_identity"),
-                                                        strict=strict)
-    skipped += unmapped
-    if not ensembles:
-        raise no_model_left(skipped)
-    if on_models is not None:
-        on_models(ensembles, skipped)
-    res = score_models(shifts, ensembles, mappings=mappings, **options)
-    res.skipped = skipped
-    return res
-
-
-def describe_params(path) -> str:
-    """'shipped default (params_default.json)' for the packaged file, else the path given."""
-    if path is None:
-        return "<dict>"
-    from pathlib import Path
-
-    from .predict.params import default_params_path
-
-    shipped = default_params_path()
-    try:
-        if Path(str(path)).resolve() == Path(str(shipped)).resolve():
-            return "shipped default (shiftcheck/data/params_default.json)"
-    except OSError:
-        pass
-    return str(path)
+    options.pop("batch_size", None)
+    options.pop("mapper", None)
+    return score_stream(shift_path, model_paths, list_id=list_id, entity_id=entity_id, chain=chain,
+                        temperature=temperature, ph=ph, strict=strict, on_models=on_models, jobs=jobs,
+                        scheduler=scheduler, models_per_task=models_per_task or DEFAULT_MODELS_PER_TASK,
+                        **options)

@@ -65,6 +65,13 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
                    help=f"random seed of the bootstrap (default: {scoring_default('seed')})")
     p.add_argument("--no-mean", action="store_true",
                    help="do not score the ensemble-mean prediction (name#mean)")
+    p.add_argument("--jobs", metavar="N", type=int, default=None,
+                   help="worker processes reading and predicting the models (default: all cores); "
+                        "the results are the same for any N")
+    p.add_argument("--scheduler", metavar="ADDRESS", default=None,
+                   help="send the models to the Dask cluster whose scheduler listens at ADDRESS "
+                        "(e.g. tcp://10.0.0.5:8786; needs pip install 'shiftcheck[cluster]'; see "
+                        "docs/scaling.md)")
     p.add_argument("--force", action="store_true", help="write into a non-empty OUTDIR")
     p.add_argument("--strict", action="store_true",
                    help="stop with an error at the first model that would be skipped "
@@ -119,6 +126,8 @@ def run(args) -> int:
         if bad:
             raise InputError(f"--plots: unknown plot format '{bad[0]}' (choose from {', '.join(PLOT_FORMATS)})")
     check_score_options(args)
+    if args.jobs is not None and args.jobs < 1:
+        raise InputError(f"--jobs must be at least 1, got {args.jobs}")
     if args.temperature is not None and not 200.0 <= args.temperature <= 400.0:
         raise InputError(f"--temperature is in kelvin and must lie in 200..400, got {args.temperature:g}")
     if args.ph is not None and not 0.0 <= args.ph <= 14.0:
@@ -135,7 +144,7 @@ def run(args) -> int:
                       on_models=on_models, params=args.params, ring_model=args.ring_model,
                       reref=args.reref, k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
                       include_mean=not args.no_mean, min_identity=args.min_identity,
-                      progress=_Progress(args.quiet))
+                      jobs=args.jobs, scheduler=args.scheduler, progress=_Progress(args.quiet))
     write_outputs(res, args.outdir, force=args.force, inputs=inputs, report=not args.no_report,
                   plots=args.plots, show=tuple(args.show))
     as_json = getattr(args, "json", False)

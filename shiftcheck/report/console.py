@@ -13,13 +13,18 @@ if TYPE_CHECKING:
 __all__ = ["console_summary"]
 
 
+MAX_LISTED = 10      # model files listed one per line
+
+
 def console_summary(res: ScoreResult, outdir: str | None = None, top: int = 10) -> str:
     """Readable text summary of a ScoreResult."""
     comp, rk = res.comparison, res.ranking
     lines = [f"Shifts: {res.shifts.source} ({len(comp)} atoms on {comp.n_residues} residues compared)"]
-    for ens, m in zip(res.ensembles, res.mappings):
+    for ens, m in zip(res.ensembles[:MAX_LISTED], res.mappings):
         lines.append(f"  {ens.name}: chain {ens.chain_id or '(blank)'}, {ens.n_models} model(s), identity "
                      f"{m.identity:.2f}, coverage {m.coverage:.2f}")
+    if len(res.ensembles) > MAX_LISTED:
+        lines.append(f"  ... and {len(res.ensembles) - MAX_LISTED} more model files (summary.json lists all)")
     lines.append("")
     lines.append(f"Referencing offsets (measured - predicted, ppm; --reref {res.parameters['reref']}):")
     for iso, name in (("C", "13C"), ("N", "15N"), ("H", "1H")):
@@ -58,12 +63,13 @@ def console_summary(res: ScoreResult, outdir: str | None = None, top: int = 10) 
                  f"{int(np.sum(res.outliers.klass == 'some'))} in some models; "
                  f"{len(fl)} in the best model, largest |z| first"
                  + (" (measured minus the applied offset)" if any(o.applied for o in res.offsets.values()) else ""))
-    order = sorted(fl, key=lambda j: -abs(res.z[best, j]))[:top]
+    zb, rb = res.z_rows(best, best + 1)[0], res.residual_rows(best, best + 1)[0]
+    order = sorted(fl, key=lambda j: -abs(zb[j]))[:top]
     for j in order:
-        meas = comp.predicted[best, j] + res.residual[best, j]   # measured - applied offset
+        meas = comp.predicted[best, j] + rb[j]   # measured - applied offset
         lines.append(f"  {comp.seq_id[j]:>5} {comp.comp_id[j]} {comp.atom_id[j]:<5} "
                      f"measured {meas:8.3f} predicted {comp.predicted[best, j]:8.3f} "
-                     f"z {res.z[best, j]:+6.1f}  ({res.outliers.klass[j]})")
+                     f"z {zb[j]:+6.1f}  ({res.outliers.klass[j]})")
     warn = [f for f in res.findings if f.severity == "warning"]
     lines.append("")
     lines.append(f"Data checks: {len(warn)} warnings, {len(res.findings) - len(warn)} notes")

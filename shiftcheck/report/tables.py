@@ -27,6 +27,8 @@ __all__ = ["write_tables", "summary_dict", "ranking_rows", "residue_rows", "RANK
            "RESIDUE_COLUMNS", "sha256"]
 
 _STATS = ("rmsd", "mad", "r", "n")
+#: summary.json lists the flagged atoms of the best this many entries (all of them in residues.csv).
+FLAG_ENTRIES = 100
 RANKING_COLUMNS = (["rank", "model", "score", "score_low", "score_high", "p_best"]
                    + [f"{s}_{x}" for x in ALL_CLASSES for s in _STATS] + ["best_group"]
                    + ["clashes_per_1000", "severe_pairs", "chain_breaks", "rama_outliers_pct",
@@ -53,6 +55,11 @@ def _num(x, nd: int = 4):
         return None
     x = float(x)
     return None if not math.isfinite(x) else round(x, nd)
+
+
+def _n_built(ens) -> int:
+    n = getattr(ens, "n_built", None)
+    return int(np.sum(ens.built)) if n is None else int(n)
 
 
 def _atomic_write(path: Path, text: str) -> None:
@@ -93,13 +100,14 @@ def residue_rows(res: ScoreResult):
         for sid, r in mp.seq_to_res.items():
             model_res[(ei, int(sid))] = f"{ens.res_seq[r]}{ens.res_icode[r]}"
     for e, entry in enumerate(comp.entries):
+        resid, z = res.residual_rows(e, e + 1)[0], res.z_rows(e, e + 1)[0]
         for j in range(len(comp)):
             flagged = bool(res.outliers.flagged[e, j])
             yield {"model": entry.name, "chain": entry.chain, "seq_id": int(comp.seq_id[j]),
                    "comp_id": str(comp.comp_id[j]), "atom_id": str(comp.atom_id[j]),
                    "nucleus": str(comp.nucleus[j]), "measured": _num(comp.measured[j]),
                    "offset": _num(corr[j]), "predicted": _num(comp.predicted[e, j]),
-                   "residual": _num(res.residual[e, j]), "z": _num(res.z[e, j], 3),
+                   "residual": _num(resid[j]), "z": _num(z[j], 3),
                    "flag": (klass[j] or "some") if flagged else "",
                    "model_res": model_res.get((entry.ensemble, int(comp.seq_id[j])), "")}
 
@@ -127,8 +135,9 @@ def _quote(field: str) -> str:
     return field
 
 
-def _residues_csv(res) -> str:
-    """residues.csv built column by column (same bytes as ``_csv(residue_rows(res), ...)``)."""
+def _residues_blocks(res, block: int = 256):
+    """residues.csv text in blocks of ``block`` entries (same bytes as ``_csv(residue_rows(res),
+    ...)``, built column by column), so a run of many models is written without holding it all."""
     comp = res.comparison
     n, n_e = len(comp), len(comp.entries)
     corr = res.correction
@@ -137,25 +146,37 @@ def _residues_csv(res) -> str:
         "seq_id": [str(int(x)) for x in comp.seq_id], "comp_id": [str(x) for x in comp.comp_id],
         "atom_id": [str(x) for x in comp.atom_id], "nucleus": [str(x) for x in comp.nucleus],
         "measured": _text(comp.measured, 4), "offset": _text(corr, 4)}
-    cols: dict[str, list[str]] = {k: v * n_e for k, v in per_atom.items()}
-    cols["model"] = [x for e in comp.entries for x in [e.name] * n]
-    cols["chain"] = [x for e in comp.entries for x in [e.chain] * n]
-    cols["predicted"] = _text(np.asarray(comp.predicted).reshape(-1), 4)
-    cols["residual"] = _text(np.asarray(res.residual).reshape(-1), 4)
-    cols["z"] = _text(np.asarray(res.z).reshape(-1), 3)
     some = np.array([(k or "some") for k in klass], dtype=object) if n else np.zeros(0, object)
-    flagged = np.asarray(res.outliers.flagged, dtype=bool).reshape(n_e, n)
-    cols["flag"] = np.where(flagged, some[None, :], "").reshape(-1).tolist()
     own: dict[int, list[str]] = {}
+    shared: dict[tuple, list[str]] = {}           # decoy files share their residue labels
     for ei, (ens, mp) in enumerate(zip(res.ensembles, res.mappings)):
         lab = {int(sid): f"{ens.res_seq[r]}{ens.res_icode[r]}" for sid, r in mp.seq_to_res.items()}
-        own[ei] = [lab.get(int(sid), "") for sid in comp.seq_id]
-    cols["model_res"] = [x for e in comp.entries for x in own.get(e.ensemble, [""] * n)]
-    for k in ("model", "chain", "comp_id", "atom_id", "nucleus", "flag", "model_res"):
-        if any(c in "".join(set(cols[k])) for c in ',"\r\n'):
-            cols[k] = [_quote(x) for x in cols[k]]
-    body = "\n".join(map(",".join, zip(*(cols[c] for c in RESIDUE_COLUMNS))))
-    return ",".join(RESIDUE_COLUMNS) + "\n" + (body + "\n" if n and n_e else "")
+        key = tuple(lab.get(int(sid), "") for sid in comp.seq_id)
+        own[ei] = shared.setdefault(key, list(key))
+    yield ",".join(RESIDUE_COLUMNS) + "\n"
+    if not n:
+        return
+    for a in range(0, n_e, block):
+        ents = comp.entries[a:a + block]
+        k = len(ents)
+        cols: dict[str, list[str]] = {c: v * k for c, v in per_atom.items()}
+        cols["model"] = [x for e in ents for x in [e.name] * n]
+        cols["chain"] = [x for e in ents for x in [e.chain] * n]
+        cols["predicted"] = _text(np.asarray(comp.predicted[a:a + k]).reshape(-1), 4)
+        cols["residual"] = _text(res.residual_rows(a, a + k).reshape(-1), 4)
+        cols["z"] = _text(res.z_rows(a, a + k).reshape(-1), 3)
+        flagged = np.asarray(res.outliers.flagged[a:a + k], dtype=bool)
+        cols["flag"] = np.where(flagged, some[None, :], "").reshape(-1).tolist()
+        cols["model_res"] = [x for e in ents for x in own.get(e.ensemble, [""] * n)]
+        for c in ("model", "chain", "comp_id", "atom_id", "nucleus", "flag", "model_res"):
+            if any(ch in "".join(set(cols[c])) for ch in ',"\r\n'):
+                cols[c] = [_quote(x) for x in cols[c]]
+        yield "\n".join(map(",".join, zip(*(cols[c] for c in RESIDUE_COLUMNS)))) + "\n"
+
+
+def _residues_csv(res) -> str:
+    """residues.csv as one string (small runs; :func:`write_tables` writes it block by block)."""
+    return "".join(_residues_blocks(res))
 
 
 def _csv(rows, columns) -> str:
@@ -179,7 +200,7 @@ def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
                           "sha256": [sha256(s) for s in ens.sources][0] if ens.sources else None,
                           "name": ens.name, "chain": ens.chain_id, "n_models": ens.n_models,
                           "model_names": list(ens.model_names), "method": ens.method,
-                          "hydrogens_built": int(np.sum(ens.built))}
+                          "hydrogens_built": _n_built(ens)}
                          for ens in res.ensembles]}
     mapping = [{"ensemble": ens.name, "chain": ens.chain_id, "identity": _num(m.identity),
                 "coverage": _num(m.coverage), "offsets": "; ".join(m.offsets),
@@ -194,15 +215,18 @@ def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
                                   "best_group")} for r in ranking_rows(res)]
     corr = res.correction
     flags = []
-    for e in rk.order:
+    listed = rk.order[:FLAG_ENTRIES]
+    for e in listed:
+        z_e = res.z_rows(e, e + 1)[0]
+        r_e = res.residual_rows(e, e + 1)[0]
         for j in np.flatnonzero(res.outliers.flagged[e]):
             nuc = str(comp.nucleus[j])
             flags.append({"model": comp.entries[e].name, "chain": comp.entries[e].chain,
                           "seq_id": int(comp.seq_id[j]), "comp_id": str(comp.comp_id[j]),
                           "atom_id": str(comp.atom_id[j]), "nucleus": nuc,
                           "measured": _num(comp.measured[j]), "offset": _num(corr[j]),
-                          "predicted": _num(comp.predicted[e, j]), "residual": _num(res.residual[e, j]),
-                          "z": _num(res.z[e, j], 3), "class": str(res.outliers.klass[j]),
+                          "predicted": _num(comp.predicted[e, j]), "residual": _num(r_e[j]),
+                          "z": _num(z_e[j], 3), "class": str(res.outliers.klass[j]),
                           "rule": f"|residual| > {res.outliers.k:g} x {res.expected_error[nuc]:g} ppm "
                                   f"(expected error of {nuc})"})
     left = {"counts": dict(sorted(comp.left_out.items())), "examples": comp.left_out_examples,
@@ -223,6 +247,10 @@ def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
         "expected_error_source": res.expected_error_source,
         "nuclei": list(BACKBONE) + [x for x in ALL_CLASSES if x not in BACKBONE],
         "flags": flags,
+        "flags_listed": {"entries": len(listed), "of": len(comp.entries),
+                         "note": "" if len(listed) == len(comp.entries) else
+                         f"flags of the best {len(listed)} of {len(comp.entries)} entries; residues.csv "
+                         "has every entry's flag column"},
         "residue_summary": res.residue_summary,
         "data_checks": [f.as_dict() for f in res.findings],
         "secondary_structure": res.secondary,
@@ -266,7 +294,11 @@ def write_tables(res: ScoreResult, outdir: str | os.PathLike) -> list[Path]:
     out.mkdir(parents=True, exist_ok=True)
     paths = [out / "ranking.csv", out / "residues.csv", out / "summary.json"]
     _atomic_write(paths[0], _csv(ranking_rows(res), RANKING_COLUMNS))
-    _atomic_write(paths[1], _residues_csv(res))
+    from .atomic import atomic_target
+
+    with atomic_target(paths[1]) as tmp, open(tmp, "w", encoding="utf-8", newline="") as fh:
+        for text in _residues_blocks(res):
+            fh.write(text)
     _atomic_write(paths[2], json.dumps(summary_dict(res), indent=1, allow_nan=False,
                                                 default=_json_default) + "\n")
     return paths

@@ -47,7 +47,8 @@ if TYPE_CHECKING:
     from ..structure.ensemble import Ensemble
     from ..structure.mapping import Mapping
 
-__all__ = ["Comparison", "Entry", "build_comparison", "resolve_stereo", "group_name", "STEREO_PAIRS"]
+__all__ = ["Comparison", "Entry", "Keys", "Projected", "comparison_keys", "project", "assemble",
+           "build_comparison", "resolve_stereo", "group_name", "STEREO_PAIRS"]
 
 # Methyl groups: IUPAC names of the three protons -> group name (first proton)
 _METHYL_GROUP: dict[tuple[str, str], str] = {}
@@ -153,27 +154,41 @@ def _is_placeholder(v: np.ndarray, placeholders) -> np.ndarray:
     return bad
 
 
-def build_comparison(shifts: ShiftList, ensembles: Sequence[Ensemble], mappings: Sequence[Mapping], predictions: Sequence[Prediction], placeholders=(0.0, 999.0, -999.0),
-                     include_mean: bool = True) -> Comparison:
-    """Assemble the common atom set of all models of all ensembles.
+_WHY = ("coordinates absent from this model", "residue not in the model", "residue type differs",
+        "atom not in the model")
 
-    Parameters
-    ----------
-    shifts : ShiftList
-    ensembles : list of Ensemble
-    mappings : list of Mapping
-        ``mappings[i].seq_to_res`` maps Seq_ID -> residue index of ``ensembles[i]``.
-    predictions : list of Prediction
-        One per ensemble (values of shape (n_models, n)).
-    placeholders : sequence of float
-        Values meaning "not measured"; such shifts are left out.
-    include_mean : bool
-        Add a ``name#mean`` entry (mean prediction over models) for multi-model ensembles.
 
-    Returns
-    -------
-    Comparison
-    """
+@dataclass
+class Keys:
+    """The measured comparison rows of a shift list (no model needed): see :func:`comparison_keys`."""
+
+    keys: list
+    measured: np.ndarray
+    ambiguous: np.ndarray
+    count: np.ndarray
+    comp: np.ndarray
+    members: list
+    cls: list
+    left: Counter
+    examples: dict
+
+
+@dataclass
+class Projected:
+    """One ensemble's predictions on the rows of a :class:`Keys` (``vals``: chunks of models,
+    each (n_models_chunk, n_keys)); ``why`` codes into the reasons an atom is absent."""
+
+    vals: list
+    why: np.ndarray
+    model_names: list
+    chain: str
+    name: str
+
+
+def comparison_keys(shifts: ShiftList, ends, placeholders=(0.0, 999.0, -999.0)) -> Keys:
+    """Measured groups of the shift list, in file order; ``ends`` from
+    :func:`~shiftcheck.chem.nuclei.entity_ends` ((None, None): no terminus left out, the superset
+    that per-batch projections use before every model's mapping is known)."""
     left: Counter = Counter()
     examples: dict[str, list[str]] = {}
 
@@ -183,10 +198,8 @@ def build_comparison(shifts: ShiftList, ensembles: Sequence[Ensemble], mappings:
         if len(ex) < 10:
             ex.append(label)
 
-    # --- measured groups -------------------------------------------------------------
     groups: dict[tuple[int, str], dict] = {}
     seen: set[tuple[int, str]] = set()
-    ends = entity_ends(shifts, ensembles, [mp.seq_to_res for mp in mappings])
     for p in getattr(shifts, "placeholders", ()):      # set aside by the reader
         leave("placeholder or missing value", f"{p['seq_id']} {p['comp_id']} {p['atom_id']}")
     for sid, comp, atom, val, amb in zip(shifts.seq_id, shifts.comp_id, shifts.atom_id, shifts.value,
@@ -226,43 +239,104 @@ def build_comparison(shifts: ShiftList, ensembles: Sequence[Ensemble], mappings:
             if (sid, other) not in present:   # lone member of an ambiguous pair: mean of both
                 mem = mem + _members(c, other)
         members.append(mem)
+    return Keys(keys, meas, amb, count, comp, members, [groups[k]["cls"] for k in keys], left, examples)
 
-    # --- predictions per ensemble: an atom a model lacks is NaN for that model only ---------
-    blocks, entries, absent = [], [], []
-    for ei, (ens, mp, pred) in enumerate(zip(ensembles, mappings, predictions)):
-        col = {(int(r), str(a)): j for j, (r, a) in enumerate(zip(pred.res_index, pred.atom_id))}
-        vals = np.full((pred.n_models, len(keys)), np.nan)
-        why = np.full(len(keys), "coordinates absent from this model", dtype=object)
-        for i, ((sid, g), c, mem) in enumerate(zip(keys, comp, members)):
-            res = mp.seq_to_res.get(sid)
-            if res is None:
-                why[i] = "residue not in the model"
-                continue
-            if str(ens.res_name[res]) != c:
-                why[i] = "residue type differs"
-                continue
-            js = [col[(res, m)] for m in mem if (res, m) in col]
-            if not js:
-                why[i] = "atom not in the model"
-                continue
-            with np.errstate(invalid="ignore"):
-                vals[:, i] = pred.values[:, js].mean(axis=1)
-        names = list(pred.model_names) or [f"{ens.name}#{k + 1}" for k in range(pred.n_models)]
-        for m in range(pred.n_models):
-            entries.append(Entry(names[m], ei, m, ens.chain_id))
+
+def project(ck: Keys, ens, mp, pred) -> Projected:
+    """Predictions of one ensemble on the rows of ``ck``: NaN where the model lacks the atom."""
+    col = {(int(r), str(a)): j for j, (r, a) in enumerate(zip(pred.res_index, pred.atom_id))}
+    vals = np.full((pred.n_models, len(ck.keys)), np.nan)
+    why = np.zeros(len(ck.keys), dtype=np.uint8)
+    for i, ((sid, g), c, mem) in enumerate(zip(ck.keys, ck.comp, ck.members)):
+        res = mp.seq_to_res.get(sid)
+        if res is None:
+            why[i] = 1
+            continue
+        if str(ens.res_name[res]) != c:
+            why[i] = 2
+            continue
+        js = [col[(res, m)] for m in mem if (res, m) in col]
+        if not js:
+            why[i] = 3
+            continue
+        with np.errstate(invalid="ignore"):
+            vals[:, i] = pred.values[:, js].mean(axis=1)
+    names = list(pred.model_names) or [f"{ens.name}#{k + 1}" for k in range(pred.n_models)]
+    return Projected([vals], why, names, ens.chain_id, ens.name)
+
+
+def build_comparison(shifts: ShiftList, ensembles: Sequence[Ensemble], mappings: Sequence[Mapping],
+                     predictions: Sequence[Prediction], placeholders=(0.0, 999.0, -999.0),
+                     include_mean: bool = True) -> Comparison:
+    """Assemble the common atom set of all models of all ensembles.
+
+    Parameters
+    ----------
+    shifts : ShiftList
+    ensembles : list of Ensemble
+    mappings : list of Mapping
+        ``mappings[i].seq_to_res`` maps Seq_ID -> residue index of ``ensembles[i]``.
+    predictions : list of Prediction
+        One per ensemble (values of shape (n_models, n)).
+    placeholders : sequence of float
+        Values meaning "not measured"; such shifts are left out.
+    include_mean : bool
+        Add a ``name#mean`` entry (mean prediction over models) for multi-model ensembles.
+
+    Returns
+    -------
+    Comparison
+    """
+    sup = comparison_keys(shifts, (None, None), placeholders)
+    projected = [project(sup, e, m, p) for e, m, p in zip(ensembles, mappings, predictions)]
+    return assemble(shifts, sup, ensembles, mappings, projected, placeholders, include_mean)
+
+
+def assemble(shifts: ShiftList, sup: Keys, ensembles, mappings, projected: list,
+             placeholders=(0.0, 999.0, -999.0), include_mean: bool = True) -> Comparison:
+    """The :class:`Comparison` from per-ensemble projections on the superset rows ``sup``.
+
+    ``ensembles`` need only ``n_residues`` (for the chain ends); ``projected[i]`` is released
+    (set to None) once copied, so a streamed run holds the predictions once.
+    """
+    ck = comparison_keys(shifts, entity_ends(shifts, ensembles, [mp.seq_to_res for mp in mappings]),
+                         placeholders)
+    left, examples = ck.left, ck.examples
+    where = {k: i for i, k in enumerate(sup.keys)}
+    cols = np.array([where[k] for k in ck.keys], dtype=np.int64)
+    keys, comp, count = ck.keys, ck.comp, ck.count
+    n_rows = sum(sum(v.shape[0] for v in p.vals) + (1 if include_mean and sum(v.shape[0] for v in p.vals) > 1
+                                                    else 0) for p in projected)
+    allv = np.empty((n_rows, len(keys)))
+    entries, absent = [], []
+    row = 0
+    for ei in range(len(projected)):
+        p = projected[ei]
+        projected[ei] = None
+        start = row
+        for v in p.vals:
+            allv[row:row + v.shape[0]] = v[:, cols]
+            row += v.shape[0]
+        p.vals.clear()
+        why = np.array(_WHY, dtype=object)[p.why[cols]]
+        n_models = row - start
+        for m in range(n_models):
+            entries.append(Entry(p.model_names[m], ei, m, p.chain))
             absent.append(why)
-        blocks.append(vals)
-        if include_mean and pred.n_models > 1:
-            entries.append(Entry(f"{ens.name}#mean", ei, -1, ens.chain_id))
+        if include_mean and n_models > 1:
+            entries.append(Entry(f"{p.name}#mean", ei, -1, p.chain))
             with np.errstate(invalid="ignore"), warnings.catch_warnings():
                 warnings.simplefilter("ignore", RuntimeWarning)
-                blocks.append(np.nanmean(vals, axis=0, keepdims=True))
+                allv[row] = np.nanmean(allv[start:row], axis=0)
             absent.append(None)
-    allv = np.vstack(blocks) if blocks else np.zeros((0, len(keys)))
-    keep = np.isfinite(allv).any(axis=0) if blocks else np.zeros(len(keys), dtype=bool)
+            row += 1
+    keep = np.isfinite(allv).any(axis=0) if n_rows else np.zeros(len(keys), dtype=bool)
     for i in np.flatnonzero(~keep):
         (sid, g), c = keys[i], comp[i]
-        leave("not predicted in any model", f"{sid} {c} {g}", count[i])
+        left["not predicted in any model"] += count[i]
+        ex = examples.setdefault("not predicted in any model", [])
+        if len(ex) < 10:
+            ex.append(f"{sid} {c} {g}")
     n_kept = int(keep.sum())
     per_entry = {}
     for k, (e, why) in enumerate(zip(entries, absent)):
@@ -270,14 +344,15 @@ def build_comparison(shifts: ShiftList, ensembles: Sequence[Ensemble], mappings:
         if why is not None and gone.any():
             per_entry[e.name] = {"n_absent": int(gone.sum()), "n_compared": n_kept - int(gone.sum()),
                                  "reasons": dict(Counter(why[gone].tolist()))}
-    predicted = allv[:, keep]
+    predicted = allv if keep.all() else allv[:, keep]
+    del allv
     sel = [k for k, ok in zip(keys, keep) if ok]
     seq = np.array([k[0] for k in sel], dtype=int)
     _, residue = np.unique(seq, return_inverse=True)
-    cls = np.array([groups[k]["cls"] for k in sel], dtype=object)
+    cls = np.array([c for c, ok in zip(ck.cls, keep) if ok], dtype=object)
     return Comparison(seq_id=seq, comp_id=comp[keep], atom_id=np.array([k[1] for k in sel], dtype=object),
                       nucleus=cls, isotope=np.array([c[0] for c in cls], dtype=object),
-                      measured=meas[keep], ambiguous=amb[keep], residue=residue.astype(int),
+                      measured=ck.measured[keep], ambiguous=ck.ambiguous[keep], residue=residue.astype(int),
                       predicted=predicted, entries=entries, left_out=dict(left),
                       left_out_examples=examples, absent=per_entry)
 

@@ -33,7 +33,7 @@ if TYPE_CHECKING:
     from ..structure.ensemble import Ensemble
     from ..structure.mapping import Mapping
 
-__all__ = ["Finding", "check_shifts", "check_against_models"]
+__all__ = ["Finding", "check_shifts", "check_against_models", "model_states", "apply_model_states"]
 
 
 def _srcs() -> dict:
@@ -129,14 +129,20 @@ def check_against_models(findings: list[Finding], ensembles: Sequence[Ensemble],
     |omega| < 30 deg cis) disagrees in every model; a Cys note becomes a warning when the shift
     state disagrees with the disulfides of every model (SG-SG < 2.5 A, disulfide = oxidised).
     """
+    return apply_model_states(findings, model_states(findings, ensembles, mappings))
+
+
+def model_states(findings: list[Finding], ensembles: Sequence[Ensemble],
+                 mappings: Sequence[Mapping]) -> dict[int, set]:
+    """States the models show for each cis-Pro / Cys-redox finding: index -> set of
+    'cis'/'trans' or 'oxidised'/'reduced'. Sets from batches of models merge by union."""
     from ..structure.geometry import backbone_torsions
 
     thr = float(shift_ranges()["disulfide_sg_sg"]["value"])
-    out = []
+    states: dict[int, set] = {}
     cache = {}
-    for f in findings:
+    for fi, f in enumerate(findings):
         if f.rule not in ("cis_pro", "cys_redox") or not ensembles:
-            out.append(f)
             continue
         verdicts = []
         for i, (ens, mp) in enumerate(zip(ensembles, mappings)):
@@ -165,10 +171,20 @@ def check_against_models(findings: list[Finding], ensembles: Sequence[Ensemble],
                 with np.errstate(invalid="ignore"):
                     bonded = np.nanmin(np.where(np.isnan(d), np.inf, d), axis=1) < thr
                 verdicts.append(np.where(bonded, "oxidised", "reduced")[has_sg])
-        if not verdicts:
+        if verdicts:
+            states[fi] = set(np.concatenate(verdicts).tolist())
+    return states
+
+
+def apply_model_states(findings: list[Finding], states: dict[int, set]) -> list[Finding]:
+    """Findings with the notes the models contradict turned into warnings (see
+    :func:`check_against_models`)."""
+    out = []
+    for fi, f in enumerate(findings):
+        model_states = states.get(fi)
+        if not model_states:
             out.append(f)
             continue
-        model_states = set(np.concatenate(verdicts).tolist())
         if f.state in ("cis", "trans", "oxidised", "reduced") and f.state not in model_states:
             what = "/".join(sorted(model_states))
             out.append(Finding(f.seq_id, f.comp_id, f.atom_id, f.rule,

@@ -30,7 +30,10 @@ def huber_q(z: np.ndarray, h: float) -> np.ndarray:
 
 
 def _pearson(x: np.ndarray, y: np.ndarray) -> np.ndarray:
-    """Row-wise Pearson r of x (n,) against each row of y (k, n); NaN in y: that row's own atoms."""
+    """Row-wise Pearson r of x (n,) against each row of y (k, n); NaN in y: that row's own atoms.
+
+    Each row is computed on its own (no matrix product), so a row's r does not depend on the
+    other rows given with it."""
     bad = ~np.isfinite(y)
     if bad.any():
         out = np.full(y.shape[0], np.nan)
@@ -44,7 +47,7 @@ def _pearson(x: np.ndarray, y: np.ndarray) -> np.ndarray:
     yc = y - y.mean(axis=1, keepdims=True)
     den = np.sqrt((xc * xc).sum() * (yc * yc).sum(axis=1))
     with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(den > 0, (yc @ xc) / den, np.nan)
+        return np.where(den > 0, (yc * xc).sum(axis=1) / den, np.nan)
 
 
 def per_nucleus_metrics(measured_ref: np.ndarray, predicted: np.ndarray, nucleus: np.ndarray,

@@ -35,10 +35,21 @@ class Ranking:
 
 
 def per_residue_sums(q: np.ndarray, residue: np.ndarray, n_res: int) -> tuple[np.ndarray, np.ndarray]:
-    """Sum q (n_entries, n) over atoms of each residue -> (n_entries, n_res), and counts (n_res,)."""
-    onehot = np.zeros((q.shape[1], n_res))
-    onehot[np.arange(q.shape[1]), residue] = 1.0
-    return q @ onehot, onehot.sum(axis=0)
+    """Sum q (n_entries, n) over atoms of each residue -> (n_entries, n_res), and counts (n_res,).
+
+    Summed row by row in atom order (``np.add.reduceat``), so a row's sums do not depend on which
+    other rows are summed with it (streamed blocks give the same numbers as one array).
+    """
+    q = np.asarray(q, dtype=float)
+    residue = np.asarray(residue, dtype=np.int64)
+    out = np.zeros((q.shape[0], n_res))
+    counts = np.bincount(residue, minlength=n_res).astype(float) if residue.size else np.zeros(n_res)
+    if residue.size and q.shape[0]:
+        order = np.argsort(residue, kind="stable")
+        r = residue[order]
+        starts = np.flatnonzero(np.r_[True, r[1:] != r[:-1]])
+        out[:, r[starts]] = np.add.reduceat(q[:, order], starts, axis=1)
+    return out, counts
 
 
 def rank_models(S: np.ndarray, counts: np.ndarray, W: np.ndarray, p_group: float = 0.05) -> Ranking:
@@ -62,7 +73,9 @@ def rank_models(S: np.ndarray, counts: np.ndarray, W: np.ndarray, p_group: float
             score = np.sqrt(S.sum(axis=1) / counts.sum(axis=1))
             boot = np.sqrt((W @ S.T) / (W @ counts.T))
     boot = boot[np.all(np.isfinite(boot), axis=1)] if boot.size else boot
-    order = np.lexsort((np.arange(n_entries), score))
+    # scores equal to 10 decimals are ties, broken by input order: the last bits of a prediction
+    # may depend on the model's position in its batch (BLAS), the order must not
+    order = np.lexsort((np.arange(n_entries), np.round(score, 10)))
     rank = np.empty(n_entries, dtype=int)
     rank[order] = np.arange(1, n_entries + 1)
     if boot.shape[0] == 0 or n_entries == 0:

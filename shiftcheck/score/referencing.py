@@ -88,6 +88,21 @@ def _one(diff: np.ndarray, residue: np.ndarray, W: np.ndarray) -> tuple[float, f
     return value, float(lo), float(hi)
 
 
+def _consensus(predicted: np.ndarray, rows: np.ndarray, budget: int = 1 << 25) -> np.ndarray:
+    """Median over the given rows of each column (models lacking an atom: the others), taken over
+    blocks of columns so that no copy of all rows x all columns is made (exact: per column)."""
+    import warnings
+
+    n = predicted.shape[1]
+    width = max(1, budget // (8 * max(1, rows.size)))
+    out = np.empty(n)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)      # an atom no model has: NaN
+        for a in range(0, n, width):
+            out[a:a + width] = np.nanmedian(predicted[rows, a:a + width], axis=0)
+    return out
+
+
 def estimate_offsets(comp, mode: str = "auto", n_boot: int = 1000, seed: int | None = None,
                      weights: np.ndarray | None = None) -> dict[str, Offset]:
     """Estimate the 13C, 15N and 1H offsets of the measured shifts.
@@ -118,7 +133,7 @@ def estimate_offsets(comp, mode: str = "auto", n_boot: int = 1000, seed: int | N
     if comp.predicted.shape[0] == 0 or not indiv.any():
         consensus = np.full(len(comp), np.nan)
     else:
-        consensus = np.nanmedian(comp.predicted[indiv], axis=0)   # models lacking an atom: the others
+        consensus = _consensus(comp.predicted, np.flatnonzero(indiv))
     diff = comp.measured - consensus
     out = {}
     for iso in ("C", "N", "H"):

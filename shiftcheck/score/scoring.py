@@ -20,7 +20,7 @@ from ._constants import scoring_constants
 from .comparison import Comparison, build_comparison, resolve_stereo
 from .datacheck import Finding, check_against_models, check_shifts
 from .metrics import combined_score, huber_q, per_nucleus_metrics
-from .outliers import Outliers, find_outliers, residue_summary
+from .outliers import Outliers, residue_summary
 from .ranking import Ranking, per_residue_sums, rank_models
 from .referencing import Offset, estimate_offsets, residue_weights
 
@@ -30,7 +30,11 @@ if TYPE_CHECKING:
     from ..structure.ensemble import Ensemble
     from ..structure.mapping import Mapping
 
-__all__ = ["ScoreResult", "score", "expected_errors"]
+__all__ = ["ScoreResult", "score", "score_comparison", "secondary_structure", "expected_errors",
+           "ENTRY_BLOCK"]
+
+#: Entries scored together (fixed, so results do not depend on batching or --jobs).
+ENTRY_BLOCK = 256
 
 
 @dataclass
@@ -48,8 +52,7 @@ class ScoreResult(ScoreTables):
     mappings: list
     comparison: Comparison
     offsets: dict[str, Offset]
-    residual: np.ndarray          # (n_entries, n): measured - correction - predicted
-    z: np.ndarray                 # residual / sigma
+    sigma: np.ndarray             # (n,) expected error of each compared atom's nucleus
     score: np.ndarray
     metrics: dict[str, dict]
     ranking: Ranking
@@ -67,6 +70,25 @@ class ScoreResult(ScoreTables):
     @property
     def best_model(self) -> str:
         return self.comparison.entries[int(self.ranking.order[0])].name
+
+    def residual_rows(self, start: int = 0, stop: int | None = None) -> np.ndarray:
+        """Residuals (measured - correction - predicted) of entries ``start:stop`` (computed on
+        demand, so a run of many models holds only the predictions)."""
+        return (self.comparison.measured - self.correction)[None, :] - self.comparison.predicted[start:stop]
+
+    def z_rows(self, start: int = 0, stop: int | None = None) -> np.ndarray:
+        """Normalised residuals residual / sigma of entries ``start:stop``."""
+        return self.residual_rows(start, stop) / self.sigma[None, :]
+
+    @property
+    def residual(self) -> np.ndarray:
+        """(n_entries, n): measured - correction - predicted."""
+        return self.residual_rows()
+
+    @property
+    def z(self) -> np.ndarray:
+        """(n_entries, n): residual / sigma."""
+        return self.z_rows()
 
     @property
     def correction(self) -> np.ndarray:
@@ -135,20 +157,43 @@ def score(shifts: ShiftList, ensembles: list[Ensemble], mappings: list[Mapping],
     InputError
         No model, or no atom is common to the shift list and every model.
     """
-    const = scoring_constants()
-    k_sigma = const["k_sigma"]["value"] if k_sigma is None else float(k_sigma)
-    n_boot = const["n_boot"]["value"] if n_boot is None else int(n_boot)
-    seed = const["seed"]["value"] if seed is None else int(seed)
     if not ensembles:
         raise InputError("no models given")
     if len(mappings) != len(ensembles) or len(predictions) != len(ensembles):
         raise ValueError("score() needs one mapping and one prediction per ensemble")
-    pdict, used_ring = (params if isinstance(params, dict) else None), ring_model
     if params_source is None:
         params_source = predictions[0].params_source if predictions else ""
-    sigma_map, sigma_src = expected_errors(pdict)
-
     comp = build_comparison(shifts, ensembles, mappings, predictions, include_mean=include_mean)
+    from ..predict.plausibility import implausible_predictions
+
+    model_warnings = [f"{ens.name}: {w}" for ens in ensembles for w in ens.warnings]
+    model_warnings += [w for pred in predictions for w in implausible_predictions(pred)]
+    findings = check_against_models(check_shifts(shifts), ensembles, mappings)
+    return score_comparison(shifts, comp, ensembles, mappings, findings=findings,
+                            secondary=secondary_structure(ensembles, mappings),
+                            model_warnings=model_warnings, params=params, ring_model=ring_model,
+                            params_source=params_source, reref=reref, k_sigma=k_sigma, n_boot=n_boot,
+                            seed=seed, include_mean=include_mean)
+
+
+def score_comparison(shifts: ShiftList, comp: Comparison, ensembles, mappings, *, findings: list,
+                     secondary: dict, model_warnings: list[str], params=None, ring_model=None,
+                     params_source: str = "", reref: str = "auto", k_sigma: float | None = None,
+                     n_boot: int | None = None, seed: int | None = None,
+                     include_mean: bool = True) -> ScoreResult:
+    """Score an assembled :class:`Comparison` (the step shared by :func:`score` and the streamed
+    engine :mod:`shiftcheck.stream`, whose ``ensembles`` carry no coordinates).
+
+    Per-atom quantities are computed over fixed blocks of :data:`ENTRY_BLOCK` entries, so the
+    numbers do not depend on how the models were batched, and only the predictions and the
+    flags (bool) are held for every entry.
+    """
+    const = scoring_constants()
+    k_sigma = const["k_sigma"]["value"] if k_sigma is None else float(k_sigma)
+    n_boot = const["n_boot"]["value"] if n_boot is None else int(n_boot)
+    seed = const["seed"]["value"] if seed is None else int(seed)
+    pdict = params if isinstance(params, dict) else None
+    sigma_map, sigma_src = expected_errors(pdict)
     if len(comp) == 0:
         why = ", ".join(f"{k} {v}" for k, v in sorted(comp.left_out.items())) or "no shifts"
         raise InputError(f"no atom is common to the shift list and every model ({why})",
@@ -159,26 +204,40 @@ def score(shifts: ShiftList, ensembles: list[Ensemble], mappings: list[Mapping],
     offsets = estimate_offsets(comp, mode=reref, n_boot=n_boot, seed=seed, weights=W)
     corr = np.array([offsets[i].correction for i in comp.isotope], dtype=float)
     meas_ref = comp.measured - corr
-    residual = meas_ref[None, :] - comp.predicted
     sigma = np.array([sigma_map[c] for c in comp.nucleus], dtype=float)
-    z = residual / sigma[None, :]
-    valid = np.isfinite(z)                 # NaN: the model lacks that atom (scored on the rest)
-    q = np.where(valid, huber_q(np.where(valid, z, 0.0), float(const["huber_h"]["value"])), np.nan)
-    S, _ = per_residue_sums(np.where(valid, q, 0.0), comp.residue, comp.n_residues)
-    counts, _ = per_residue_sums(valid.astype(float), comp.residue, comp.n_residues)
+    h = float(const["huber_h"]["value"])
+    n_e, n = comp.predicted.shape
+    is_mean = comp.is_mean
+    indiv = ~is_mean if (~is_mean).any() else np.ones(n_e, dtype=bool)
+    S = np.zeros((n_e, comp.n_residues))
+    counts = np.zeros((n_e, comp.n_residues))
+    combined = np.zeros(n_e)
+    flagged = np.zeros((n_e, n), dtype=bool)
+    n_flag, n_have = np.zeros(n, dtype=np.int64), np.zeros(n, dtype=np.int64)
+    parts = []
+    for a in range(0, n_e, ENTRY_BLOCK):
+        b = min(a + ENTRY_BLOCK, n_e)
+        pred = comp.predicted[a:b]
+        z = (meas_ref[None, :] - pred) / sigma[None, :]
+        valid = np.isfinite(z)             # NaN: the model lacks that atom (scored on the rest)
+        q = np.where(valid, huber_q(np.where(valid, z, 0.0), h), np.nan)
+        S[a:b], _ = per_residue_sums(np.where(valid, q, 0.0), comp.residue, comp.n_residues)
+        counts[a:b], _ = per_residue_sums(valid.astype(float), comp.residue, comp.n_residues)
+        combined[a:b] = combined_score(q)
+        parts.append(per_nucleus_metrics(meas_ref, pred, comp.nucleus))
+        with np.errstate(invalid="ignore"):
+            flagged[a:b] = np.abs(z) > k_sigma      # NaN (atom absent from a model): not flagged
+        n_flag += flagged[a:b][indiv[a:b]].sum(axis=0)
+        n_have += valid[indiv[a:b]].sum(axis=0)
+    metrics = {c: {k: (np.concatenate([p[c][k] for p in parts]) if k != "n" else parts[0][c]["n"])
+                   for k in parts[0][c]} for c in parts[0]}
+    klass = np.where((n_flag == n_have) & (n_have > 0), "every", np.where(n_flag > 0, "some", "")).astype(object)
+    out = Outliers(flagged, klass, n_flag, k_sigma)
     ranking = rank_models(S, counts, W, p_group=float(const["p_group"]["value"]))
-    metrics = per_nucleus_metrics(meas_ref, comp.predicted, comp.nucleus)
-    out = find_outliers(z, comp.is_mean, k_sigma)
     best = int(ranking.order[0])
-    rsum = residue_summary(comp, z, out, best)
-    findings = check_against_models(check_shifts(shifts), ensembles, mappings)
-    secondary = _secondary(ensembles, mappings)
-    warnings = list(shifts.warnings)
-    for ens in ensembles:
-        warnings += [f"{ens.name}: {w}" for w in ens.warnings]
-    from ..predict.plausibility import implausible_predictions
-    for pred in predictions:
-        warnings += implausible_predictions(pred)
+    z_best = ((meas_ref - comp.predicted[best]) / sigma)[None, :]
+    rsum = residue_summary(comp, z_best, out, 0)
+    warnings = list(shifts.warnings) + list(model_warnings)
     for name, a in comp.absent.items():
         why = ", ".join(f"{k} {v}" for k, v in sorted(a["reasons"].items()))
         warnings.append(f"{name}: lacks {a['n_absent']} of the {len(comp)} compared atoms ({why}); "
@@ -188,17 +247,17 @@ def score(shifts: ShiftList, ensembles: list[Ensemble], mappings: list[Mapping],
                 and reref == "auto":
             warnings.append(f"{iso} offset {off.value:+.2f} ppm is significant but below the "
                             f"{off.threshold} ppm threshold: not corrected")
-    parameters = {"params_source": params_source, "ring_model": used_ring, "k_sigma": k_sigma,
+    parameters = {"params_source": params_source, "ring_model": ring_model, "k_sigma": k_sigma,
                   "n_boot": n_boot, "seed": seed, "reref": reref, "include_mean": include_mean,
-                  "huber_h": float(const["huber_h"]["value"]), "p_group": float(const["p_group"]["value"])}
+                  "huber_h": h, "p_group": float(const["p_group"]["value"])}
     return ScoreResult(shifts=shifts, ensembles=list(ensembles), mappings=list(mappings), comparison=comp,
-                       offsets=offsets, residual=residual, z=z, score=combined_score(q), metrics=metrics,
+                       offsets=offsets, sigma=sigma, score=combined, metrics=metrics,
                        ranking=ranking, outliers=out, residue_summary=rsum, findings=findings,
                        secondary=secondary, expected_error=sigma_map, expected_error_source=sigma_src,
                        parameters=parameters, n_stereo_swaps=swaps, warnings=warnings)
 
 
-def _secondary(ensembles, mappings) -> dict[str, dict]:
+def secondary_structure(ensembles, mappings) -> dict[str, dict]:
     """Secondary structure of every model; residues in the shift list's numbering (Seq_ID)."""
     from .secondary import METHOD, assign_secondary
 

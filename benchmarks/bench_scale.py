@@ -1,0 +1,114 @@
+"""Scale: peak resident memory of ``score --no-report`` by model count, and the ``--jobs`` speed-up.
+
+Models are built from the 20 NMR models of ``this/2k5p.pdb`` (SHIFTCHECK_REALDATA) in a temp
+directory: COUNT models as one multi-model PDB file and as COUNT single-model files (model k is
+model k mod 20). Each run is a fresh ``python -m shiftcheck score`` subprocess; its peak RSS is
+``ru_maxrss`` from ``os.wait4`` of that child: the largest of the child and the worker
+processes it reaped (the peak of one process, not the sum over --jobs N processes).
+
+    PYTHONPATH=$PWD python benchmarks/bench_scale.py memory 1000 10000 --jobs 2
+    PYTHONPATH=$PWD python benchmarks/bench_scale.py speedup 1000
+
+The machine is shared (2 cores): wall times are noisy; run when it is quiet.
+"""
+from __future__ import annotations
+
+import argparse
+import os
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _timing import realdata_root  # noqa: E402
+
+
+def split_models(pdb: Path) -> tuple[str, list[str]]:
+    text = pdb.read_text()
+    first = text.index("\nMODEL ") + 1
+    head, bodies, pos = text[:first], [], first
+    while pos > 0:
+        end = text.index("\nENDMDL", pos)
+        chunk = text[pos:end + 1]
+        bodies.append(chunk[chunk.index("\n") + 1:])
+        pos = text.find("\nMODEL ", end) + 1
+    return head, bodies
+
+
+def build(tmp: Path, count: int, head: str, bodies: list[str]) -> tuple[Path, list[Path]]:
+    multi = tmp / f"decoys_{count}.pdb"
+    if not multi.exists():
+        with open(multi, "w") as fh:
+            fh.write(head)
+            for k in range(count):
+                fh.write(f"MODEL     {k + 1:4d}\n{bodies[k % len(bodies)]}ENDMDL\n")
+            fh.write("END\n")
+    folder = tmp / f"files_{count}"
+    folder.mkdir(exist_ok=True)
+    files = []
+    for k in range(count):
+        p = folder / f"decoy_{k + 1:05d}.pdb"
+        if not p.exists():
+            p.write_text(head + bodies[k % len(bodies)] + "END\n")
+        files.append(p)
+    return multi, files
+
+
+def run(shifts: Path, models, out: Path, jobs: int) -> tuple[float, float]:
+    """Wall time (s) and peak RSS (MB, largest process) of one score run in a subprocess."""
+    listing = out.with_suffix(".list")
+    cmd = [sys.executable, "-c",
+           "import sys; from shiftcheck.cli import main; "
+           "sys.exit(main(['score', sys.argv[1], *open(sys.argv[2]).read().split(), '-o', sys.argv[3], "
+           "'--no-report', '--quiet', '--force', '--jobs', sys.argv[4]]))",
+           str(shifts), str(listing), str(out), str(jobs)]
+    listing.write_text("\n".join(str(m) for m in models))
+    t = time.perf_counter()
+    err = out.with_suffix(".err")
+    with open(err, "w") as fh:
+        proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=fh,
+                                env=dict(os.environ, PYTHONPATH=os.getcwd()))
+        _, status, usage = os.wait4(proc.pid, 0)      # this child (and the workers it reaped)
+    wall = time.perf_counter() - t
+    if os.waitstatus_to_exitcode(status) != 0:
+        sys.exit(err.read_text()[-2000:])
+    return wall, usage.ru_maxrss / 1024.0
+
+
+def main(argv=None) -> None:
+    ap = argparse.ArgumentParser()
+    ap.add_argument("what", choices=["memory", "speedup"])
+    ap.add_argument("counts", type=int, nargs="+")
+    ap.add_argument("--jobs", type=int, default=2)
+    ap.add_argument("--tmp", default=None, help="folder for the generated models (default: a temp dir)")
+    ap.add_argument("--only", choices=["multi", "files"], default=None)
+    a = ap.parse_args(argv)
+    data = realdata_root() / "this"
+    shifts = data / "2k5p_shifts.str"
+    head, bodies = split_models(data / "2k5p.pdb")
+    tmp = Path(a.tmp or tempfile.mkdtemp(prefix="shiftcheck-scale-"))
+    tmp.mkdir(parents=True, exist_ok=True)
+    print(f"machine: {os.cpu_count()} cores (shared, noisy); python {sys.version.split()[0]}; models in {tmp}")
+    for count in a.counts:
+        multi, files = build(tmp, count, head, bodies)
+        kinds = [("one multi-model file", [multi]), ("single-model files", files)]
+        if a.only:
+            kinds = [kinds[0]] if a.only == "multi" else [kinds[1]]
+        for kind, models in kinds:
+            if a.what == "memory":
+                wall, peak = run(shifts, models, tmp / f"out_{count}", a.jobs)
+                print(f"{count:6d} models, {kind:22s} --jobs {a.jobs}: peak RSS {peak:7.1f} MB "
+                      f"(largest process), {wall:7.1f} s, {count / wall:6.1f} models/s", flush=True)
+            else:
+                w1, _ = run(shifts, models, tmp / f"out1_{count}", 1)
+                w2, _ = run(shifts, models, tmp / f"out2_{count}", a.jobs)
+                same = all((tmp / f"out1_{count}" / f).read_bytes() == (tmp / f"out2_{count}" / f).read_bytes()
+                           for f in ("ranking.csv", "residues.csv"))
+                print(f"{count:6d} models, {kind:22s}: --jobs 1 {w1:7.1f} s, --jobs {a.jobs} {w2:7.1f} s, "
+                      f"speed-up {w1 / w2:4.2f}x, tables identical: {same}", flush=True)
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,347 @@
+"""Streamed scoring: models read, mapped and predicted task by task; only compact results kept.
+
+A *task* is one coordinate file, or a run of consecutive MODEL records of a large multi-model
+PDB file (split as text at its MODEL/ENDMDL records, so the file is never parsed whole). The
+worker :func:`run_task` is pure and picklable: it takes a :class:`Task` (a path and a byte
+range, not coordinates) and the run's :class:`Context`, reads those models, maps the shift list,
+predicts, and returns a :class:`TaskResult`: the predictions on the shift list's comparison rows
+(n_models x n_rows floats), the secondary structure, the model states the data checks need and
+the warnings - no coordinates. :func:`score_stream` collects the results in input order and
+hands them to :func:`shiftcheck.score.scoring.score_comparison`, the step the in-memory path
+uses too, so the numbers are the same whatever the task size, the number of processes or the
+cluster (tests/test_streaming.py).
+
+Memory: what stays per model is its row of predictions (8 bytes x compared atoms, ~5 KB for
+a 78-residue protein) plus its flags (1 byte x atoms); per file, its name and mapping (equal
+mappings and residue tables are shared). See docs/scaling.md for the measured figures.
+"""
+from __future__ import annotations
+
+import mmap
+import os
+import tempfile
+from collections.abc import Callable, Iterable
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import ShiftcheckError
+
+__all__ = ["Task", "Context", "TaskResult", "ModelInfo", "plan_tasks", "run_task", "score_stream",
+           "DEFAULT_MODELS_PER_TASK", "describe_params"]
+
+#: Models of a multi-model file read together by one task (their coordinates are held at once).
+DEFAULT_MODELS_PER_TASK = 50
+
+
+@dataclass(frozen=True)
+class Task:
+    """Models to read: the whole file, or the MODEL records in bytes ``body`` (with the file's
+    header, bytes ``[0, head)`` before its first MODEL record)."""
+
+    file: int
+    path: str
+    label: str
+    part: int = 0
+    body: tuple[int, int] | None = None
+    head: int = 0
+
+
+@dataclass
+class ModelInfo:
+    """What the tables need of an ensemble once its models are scored (no coordinates)."""
+
+    name: str
+    sources: list
+    model_names: list
+    chain_id: str
+    res_seq: np.ndarray
+    res_icode: np.ndarray
+    res_name: np.ndarray
+    method: str
+    warnings: list
+    n_built: int
+
+    @property
+    def n_models(self) -> int:
+        return len(self.model_names)
+
+    @property
+    def n_residues(self) -> int:
+        return int(self.res_name.shape[0])
+
+
+@dataclass
+class Context:
+    """The run's fixed inputs, sent once to each worker."""
+
+    shifts: object
+    params: object
+    ring_model: str | None
+    min_identity: float
+    chain: str | None
+    rows: object                      # comparison.Keys: superset comparison rows
+    findings: list                    # structure-free data checks (for the model states)
+    _predictor: object = field(default=None, repr=False, compare=False)
+
+    def predictor(self):
+        if self._predictor is None:
+            from .predict.model import Predictor
+
+            self._predictor = Predictor(self.params, self.ring_model)
+        return self._predictor
+
+    def __getstate__(self):
+        d = dict(self.__dict__)
+        d["_predictor"] = None
+        return d
+
+
+@dataclass
+class TaskResult:
+    task: Task
+    skipped: object = None            # isolation.Skipped (read or mapping failure)
+    stage: str = ""                   # 'read' or 'map' for a skip
+    info: ModelInfo | None = None
+    mapping: object = None
+    projected: object = None          # comparison.Projected
+    secondary: dict = field(default_factory=dict)
+    states: dict = field(default_factory=dict)
+    pred_warnings: list = field(default_factory=list)
+    geometry: list = field(default_factory=list)      # structure.quality records, one per model
+
+
+def _model_spans(path: str) -> list[tuple[int, int]]:
+    """Byte ranges of the MODEL ... ENDMDL records of a plain-text PDB file ([] if none)."""
+    spans = []
+    with open(path, "rb") as fh:
+        try:
+            mm = mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)
+        except ValueError:                 # empty file
+            return []
+        with mm:
+            if mm[:4096].lstrip().lower().startswith(b"data_"):
+                return []                  # mmCIF: read whole
+            pos = 0 if mm[:6] == b"MODEL " else mm.find(b"\nMODEL ") + 1
+            while pos > 0 or (pos == 0 and mm[:6] == b"MODEL "):
+                nxt = mm.find(b"\nMODEL ", pos + 1)
+                spans.append((pos, nxt + 1 if nxt >= 0 else -1))
+                if nxt < 0:
+                    break
+                pos = nxt + 1
+            if spans and spans[-1][1] == -1:
+                end = mm.find(b"\nENDMDL", spans[-1][0])
+                stop = mm.find(b"\n", end + 1) + 1 if end >= 0 else len(mm)
+                spans[-1] = (spans[-1][0], stop if stop > 0 else len(mm))
+    return spans
+
+
+def plan_tasks(paths, models_per_task: int = DEFAULT_MODELS_PER_TASK) -> list[Task]:
+    """One task per file; large plain-text multi-model PDB files split into runs of
+    ``models_per_task`` MODEL records."""
+    from .isolation import distinct_labels
+
+    if models_per_task < 1:
+        raise ValueError("models per task must be at least 1")
+    paths = [str(p) for p in paths]
+    tasks = []
+    for i, (p, lab) in enumerate(zip(paths, distinct_labels(paths))):
+        spans = []
+        if not p.endswith(".gz") and os.path.isfile(p) and os.path.getsize(p) > 0:
+            try:
+                spans = _model_spans(p)
+            except OSError:
+                spans = []
+        if len(spans) <= models_per_task:
+            tasks.append(Task(i, p, lab))
+            continue
+        for k in range(0, len(spans), models_per_task):
+            chunk = spans[k:k + models_per_task]
+            tasks.append(Task(i, p, lab, k // models_per_task, (chunk[0][0], chunk[-1][1]), spans[0][0]))
+    return tasks
+
+
+def _read(task: Task, chain):
+    """The task's models as one Ensemble (hydrogens built), named as a whole-file read names them."""
+    from .io.coords import read_models
+    from .isolation import _relabel
+
+    if task.body is None:
+        return _relabel(read_models(task.path, chain=chain)[0], task.label)
+    with open(task.path, "rb") as fh:
+        head = fh.read(task.head)
+        fh.seek(task.body[0])
+        body = fh.read(task.body[1] - task.body[0])
+    base = os.path.basename(task.path)
+    with tempfile.TemporaryDirectory(prefix="shiftcheck-") as tmp:
+        part = os.path.join(tmp, base)
+        with open(part, "wb") as out:
+            out.write(head + body + b"END\n")
+        try:
+            ens = read_models(part, chain=chain)[0]
+        except ShiftcheckError as exc:
+            exc.path = task.path if exc.path in (None, part) else exc.path
+            raise
+    serials = [ln.split()[1] if len(ln.split()) > 1 else "" for ln in body.splitlines()
+               if ln.startswith(b"MODEL ")]
+    if ens.model_names == [base] and len(serials) == 1:        # a one-model run of a larger file
+        ens.model_names = [f"{base}#{serials[0].decode()}"]
+    ens.sources = [task.path]
+    return _relabel(ens, task.label)
+
+
+def run_task(task: Task, ctx: Context) -> TaskResult:
+    """Read, map and predict the models of one task (pure; the worker of every engine)."""
+    from .isolation import _fail, map_models_tolerant
+    from .predict.plausibility import implausible_predictions
+    from .structure.quality import geometry_summary
+    from .score.comparison import project
+    from .score.datacheck import model_states
+    from .score.scoring import secondary_structure
+
+    try:
+        ens = _read(task, ctx.chain)
+    except ShiftcheckError as exc:
+        return TaskResult(task, _fail(exc, task.path, False), "read")
+    kept, maps, skipped = map_models_tolerant(ctx.shifts, [ens], ctx.min_identity)
+    if skipped:
+        return TaskResult(task, skipped[0], "map")
+    mp = maps[0]
+    pred = ctx.predictor().predict(ens, ctx.shifts.conditions)
+    info = ModelInfo(ens.name, list(ens.sources), list(ens.model_names), ens.chain_id, ens.res_seq,
+                     ens.res_icode, ens.res_name, ens.method, list(ens.warnings), int(np.sum(ens.built)))
+    return TaskResult(task, info=info, mapping=mp, projected=project(ctx.rows, ens, mp, pred),
+                      secondary=secondary_structure([ens], [mp]),
+                      states=model_states(ctx.findings, [ens], [mp]),
+                      pred_warnings=implausible_predictions(pred), geometry=geometry_summary(ens))
+
+
+class _Shared:
+    """One object per distinct value (mappings and residue tables repeat across decoy files)."""
+
+    def __init__(self):
+        self.seen: dict = {}
+
+    def mapping(self, mp):
+        key = ("m", mp.identity, mp.coverage, tuple(sorted(mp.seq_to_res.items())), tuple(mp.offsets),
+               tuple(map(tuple, mp.mismatches)), mp.numbering)
+        return self.seen.setdefault(key, mp)
+
+    def array(self, a: np.ndarray) -> np.ndarray:
+        return self.seen.setdefault(("a", a.dtype.str, a.tobytes()), a)
+
+
+def collect(results: Iterable[TaskResult], n_files: int, strict: bool = False,
+            progress: Callable[[int, int], None] | None = None):
+    """Merge task results (in input order) per file: ``(infos, mappings, projected, secondary,
+    states, ensemble warnings, prediction warnings, skipped, geometry by model name)``."""
+    shared = _Shared()
+    geometry: dict[str, dict] = {}
+    infos, maps, proj, secondary, states = [], [], [], {}, {}
+    ens_warn: list[list[str]] = []
+    pred_warn: list[str] = []
+    skipped_read, skipped_map = [], []
+    last_file, done = -1, 0
+    for r in results:
+        done += 1
+        if progress:
+            progress(done, None)
+        if r.skipped is not None:
+            if strict and r.skipped.error is not None:
+                raise r.skipped.error
+            if r.task.file != last_file:
+                (skipped_read if r.stage == "read" else skipped_map).append(r.skipped)
+            last_file = r.task.file
+            continue
+        secondary.update(r.secondary)
+        geometry.update((g["model"], g) for g in r.geometry)
+        for k, v in r.states.items():
+            states.setdefault(k, set()).update(v)
+        pred_warn += r.pred_warnings
+        if r.task.file == last_file and r.task.part > 0 and infos and infos[-1].sources == [r.task.path]:
+            info, p = infos[-1], proj[-1]          # the next run of models of the same file
+            info.model_names += r.info.model_names
+            p.vals += r.projected.vals
+            p.model_names += r.projected.model_names
+            ens_warn[-1] += [w for w in r.info.warnings if w not in ens_warn[-1]]
+            continue
+        last_file = r.task.file
+        info = r.info
+        info.res_seq, info.res_icode, info.res_name = (shared.array(info.res_seq), shared.array(info.res_icode),
+                                                       shared.array(info.res_name))
+        infos.append(info)
+        maps.append(shared.mapping(r.mapping))
+        proj.append(r.projected)
+        ens_warn.append(list(info.warnings))
+    return infos, maps, proj, secondary, states, ens_warn, pred_warn, skipped_read + skipped_map, geometry
+
+
+def score_stream(shift_path, model_paths, *, list_id=None, entity_id=None, chain=None, temperature=None,
+                 ph=None, strict: bool = False, on_models: Callable | None = None, params=None,
+                 ring_model=None, min_identity=None, reref="auto", k_sigma=None, n_boot=None, seed=None,
+                 include_mean=True, models_per_task: int = DEFAULT_MODELS_PER_TASK, jobs: int = 1,
+                 scheduler: str | None = None, progress=None):
+    """:func:`shiftcheck.pipeline.score_files`, streamed over tasks on the chosen engine
+    (``jobs`` local processes, or the Dask scheduler at ``scheduler``)."""
+    from .defaults import DEFAULT_MIN_IDENTITY
+    from .engine import task_mapper
+    from .io.shift_formats import read_shifts
+    from .isolation import no_model_left
+    from .predict.model import Predictor
+    from .score.comparison import assemble, comparison_keys
+    from .score.datacheck import apply_model_states, check_shifts
+    from .score.scoring import score_comparison
+
+    shifts = read_shifts(shift_path, list_id=list_id, entity_id=entity_id)
+    if temperature is not None:
+        shifts.conditions.temperature_K = temperature
+    if ph is not None:
+        shifts.conditions.pH = ph
+    predictor = Predictor(params, ring_model).load()
+    findings = check_shifts(shifts)
+    ctx = Context(shifts, predictor.params_, predictor.ring_model_,
+                  DEFAULT_MIN_IDENTITY if min_identity is None else min_identity, chain,
+                  comparison_keys(shifts, (None, None)), findings)
+    tasks = plan_tasks(model_paths, models_per_task)
+    n_files = len({t.file for t in tasks})
+
+    def tick(done, _):
+        if progress:
+            progress(done, len(tasks))
+
+    if jobs is not None and jobs > len(tasks):
+        jobs = max(1, len(tasks))                    # no idle processes for a small run
+    with task_mapper(run_task, ctx, jobs=jobs, scheduler=scheduler) as mapper:
+        infos, maps, proj, secondary, states, ens_warn, pred_warn, skipped, geometry = collect(
+            mapper(tasks), n_files, strict=strict, progress=tick)
+    if not infos:
+        raise no_model_left(skipped)
+    if on_models is not None:
+        on_models(infos, skipped)
+    comp = assemble(shifts, ctx.rows, infos, maps, proj, include_mean=include_mean)
+    warnings = [f"{info.name}: {w}" for info, ws in zip(infos, ens_warn) for w in ws] + pred_warn
+    res = score_comparison(shifts, comp, infos, maps, findings=apply_model_states(findings, states),
+                           secondary=secondary, model_warnings=warnings, params=predictor.params_,
+                           ring_model=predictor.ring_model_,
+                           params_source=describe_params(predictor.params_.get("_path")), reref=reref,
+                           k_sigma=k_sigma, n_boot=n_boot, seed=seed, include_mean=include_mean)
+    res.skipped = skipped
+    res._geometry = geometry                          # structure.quality.result_geometry reads it
+    return res
+
+
+def describe_params(path) -> str:
+    """'shipped default (params_default.json)' for the packaged file, else the path given."""
+    if path is None:
+        return "<dict>"
+    from pathlib import Path
+
+    from .predict.params import default_params_path
+
+    shipped = default_params_path()
+    try:
+        if Path(str(path)).resolve() == Path(str(shipped)).resolve():
+            return "shipped default (shiftcheck/data/params_default.json)"
+    except OSError:
+        pass
+    return str(path)
