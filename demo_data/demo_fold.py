@@ -17,6 +17,8 @@ import numpy as np
 
 from shiftcheck.structure.builder import build_backbone, geometry_table, place_atom
 
+from demo_pack import ClashModel
+
 __all__ = ["Design", "fold", "polish", "refine", "kabsch_rmsd", "ss_torsions"]
 
 HELIX = (-63.0, -42.0)
@@ -219,30 +221,34 @@ def polish(design: Design, phi: np.ndarray, psi: np.ndarray, max_iter: int = 150
     return P[0], S[0], float(res.fun)
 
 
-def _heavy_pairs(ens, cutoff: float = 6.0) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Atom pairs to watch for clashes (within ``cutoff`` now; not fixed by covalent geometry)."""
-    from scipy.spatial import cKDTree
+def _rama_bounds(seq: list[str], phi: np.ndarray, psi: np.ndarray, inset: float = 5.0
+                 ) -> tuple[np.ndarray, np.ndarray]:
+    """Per residue (n, 2) lower/upper (φ, ψ) bounds: the first allowed rectangle of the geometry
+    check (shiftcheck/data/geometry_quality.json) that holds the start, ``inset`` degrees inside;
+    ±inf where the start lies in none, so refinement cannot make a Ramachandran outlier."""
+    from shiftcheck.structure.quality import constants
 
-    x = ens.coords[0]
-    p = cKDTree(x).query_pairs(cutoff, output_type="ndarray")
-    ri, rj = ens.atom_res[p[:, 0]], ens.atom_res[p[:, 1]]
-    bb = np.isin(ens.atom_name, ["N", "CA", "C", "O", "CB", "OXT"])
-    sep = np.abs(ri - rj)
-    keep = (sep >= 2) | ((sep == 1) & ~(bb[p[:, 0]] & bb[p[:, 1]]) & ~(
-        np.isin(ens.atom_name[p[:, 0]], ["CD"]) & (ens.res_name[ri] == "PRO")) & ~(
-        np.isin(ens.atom_name[p[:, 1]], ["CD"]) & (ens.res_name[rj] == "PRO")))
-    p = p[keep]
-    polar = np.isin(ens.element, ["N", "O"])
-    lim = np.where(polar[p[:, 0]] & polar[p[:, 1]], 2.6, 3.1)
-    return p[:, 0], p[:, 1], lim
+    reg = constants()["ramachandran"]
+    lo = np.full((len(seq), 2), -np.inf)
+    hi = np.full((len(seq), 2), np.inf)
+    for i, r in enumerate(seq):
+        for f0, f1, p0, p1 in reg.get(r, reg["general"]):
+            if f0 <= phi[i] <= f1 and p0 <= psi[i] <= p1:
+                lo[i] = (min(phi[i], f0 + inset), min(psi[i], p0 + inset))
+                hi[i] = (max(phi[i], f1 - inset), max(psi[i], p1 - inset))
+                break
+    return lo, hi
 
 
 def refine(design: Design, phi: np.ndarray, psi: np.ndarray, chi: np.ndarray, max_iter: int = 60,
-           window: float = 25.0, weight: float = 10.0) -> tuple[np.ndarray, np.ndarray, float, float]:
-    """Remove heavy-atom clashes: L-BFGS-B over loop/strand torsions with all heavy atoms built.
+           window: float = 25.0, weight: float = 10.0, helix_window: float = 0.0
+           ) -> tuple[np.ndarray, np.ndarray, float, float]:
+    """Remove heavy-atom clashes: L-BFGS-B over backbone torsions with all heavy atoms built.
 
-    The energy is the fold energy plus ``weight`` × Σ (limit − d)² over close heavy-atom pairs
-    (limits 3.1 Å, 2.6 Å between N/O atoms). Returns phi, psi, clash energy before and after.
+    Loop and strand torsions may move ``window`` degrees, helix and turn torsions
+    ``helix_window`` degrees. The energy is the fold energy plus ``weight`` × Σ (target − d)²
+    over the pairs that the geometry check tests (demo_pack.ClashModel: the clash limit of
+    shiftcheck.structure.quality plus a margin). Returns phi, psi, clash energy before and after.
     """
     from scipy.optimize import minimize
 
@@ -251,13 +257,19 @@ def refine(design: Design, phi: np.ndarray, psi: np.ndarray, chi: np.ndarray, ma
     seq = design.sequence
     is_gly = np.array([r == "GLY" for r in seq])
     ss = np.array(list(design.ss))
-    free_phi = np.flatnonzero(((ss == "-") | (ss == "E")) & np.array([r != "PRO" for r in seq]))
-    free_psi = np.flatnonzero((ss == "-") | (ss == "E"))
+    loose = (ss == "-") | (ss == "E")
+    movable = loose | (helix_window > 0)
+    free_phi = np.flatnonzero(movable & np.array([r != "PRO" for r in seq]))
+    free_psi = np.flatnonzero(movable)
     x0 = np.concatenate([phi[free_phi], psi[free_psi]])
-    lo, hi = x0 - window, x0 + window
+    w = np.where(np.concatenate([loose[free_phi], loose[free_psi]]), window, helix_window)
+    lo, hi = x0 - w, x0 + w
+    blo, bhi = _rama_bounds(seq, phi, psi)           # stay inside the allowed region of the start
+    lo = np.maximum(lo, np.concatenate([blo[free_phi, 0], blo[free_psi, 1]]))
+    hi = np.minimum(hi, np.concatenate([bhi[free_phi, 0], bhi[free_psi, 1]]))
     nf = free_phi.size
     ens0 = build_protein(seq, phi, psi, chi=chi)
-    I, J, lim = _heavy_pairs(ens0)
+    I, J, lim = ClashModel(ens0).pairs(ens0.coords[0])
     h = 0.25
 
     def unpack(x):

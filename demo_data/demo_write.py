@@ -1,19 +1,16 @@
-"""Helpers of make_demo.py: side-chain packing and writers for PDB, mmCIF and NMR-STAR 3.1.
+"""Helpers of make_demo.py: writers for PDB, mmCIF and NMR-STAR 3.1.
 
 Used only to make the INVENTED demo scenario (invented protein, invented lab).
 """
 from __future__ import annotations
 
-import itertools
 import os
 import tempfile
 from pathlib import Path
 
 import numpy as np
 
-from shiftcheck.structure.builder import build_protein, default_chis, geometry_table, n_chi
-
-__all__ = ["pack_sidechains", "write_pdb", "write_mmcif", "write_star", "atomic_write"]
+__all__ = ["write_pdb", "write_mmcif", "write_star", "atomic_write"]
 
 
 def atomic_write(path: Path, text: str) -> None:
@@ -24,51 +21,6 @@ def atomic_write(path: Path, text: str) -> None:
         fh.write(text)
     os.chmod(tmp, 0o644)
     os.replace(tmp, path)
-
-
-def _candidates(res: str) -> list[tuple[float, ...]]:
-    rot = geometry_table()["rotamers"]
-    k = n_chi(res)
-    if res == "PRO":
-        return [tuple(c) for c in rot["chi_pro"]]
-    if k == 0:
-        return [()]
-    chi1 = rot["chi1"]
-    if k == 1:
-        return [(c,) for c in chi1]
-    if res in ("PHE", "TYR", "TRP", "HIS"):
-        chi2 = rot["chi2_aromatic"]
-    elif res in ("ASN", "ASP"):
-        chi2 = rot["chi2_amide_acid"]
-    else:
-        chi2 = rot["chi2_sp3"]
-    return list(itertools.product(chi1, chi2))
-
-
-def pack_sidechains(seq: list[str], phi: np.ndarray, psi: np.ndarray, rng: np.random.Generator,
-                    start: np.ndarray | None = None, passes: int = 2, limit: float = 3.3) -> np.ndarray:
-    """Greedy rotamer choice: each residue takes the rotamer with the least heavy-atom overlap.
-
-    All candidate rotamers of one residue are built at once as a model stack. Returns χ (n_res, 4).
-    """
-    chi = default_chis(seq) if start is None else np.array(start, dtype=float)
-    order = [i for i, r in enumerate(seq) if len(_candidates(r)) > 1]
-    for _ in range(passes):
-        for i in rng.permutation(order):
-            cands = _candidates(seq[i])
-            k = len(cands)
-            trial = np.repeat(chi[None], k, 0)
-            for j, c in enumerate(cands):
-                trial[j, i, :len(c)] = c
-            ens = build_protein(seq, np.repeat(phi[None], k, 0), np.repeat(psi[None], k, 0), chi=trial)
-            own = ens.atom_res == i
-            side = own & ~np.isin(ens.atom_name, ["N", "CA", "C", "O", "CB", "OXT"])
-            other = ~own
-            d = np.linalg.norm(ens.coords[:, side][:, :, None] - ens.coords[:, other][:, None], axis=-1)
-            score = np.sum(np.clip(limit - d, 0.0, None) ** 2, axis=(1, 2))
-            best = int(np.argmin(score + 1e-3 * np.arange(k)))
-            chi[i] = trial[best, i]
-    return chi
 
 
 def _structure(ens, model: int = 0):

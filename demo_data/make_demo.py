@@ -27,7 +27,8 @@ PKG_DEMO = HERE.parent / "shiftcheck" / "demo"
 sys.path.insert(0, str(HERE))
 
 from demo_fold import Design, fold, kabsch_rmsd, refine  # noqa: E402
-from demo_write import atomic_write, pack_sidechains, write_mmcif, write_pdb, write_star  # noqa: E402
+from demo_pack import pack_sidechains  # noqa: E402
+from demo_write import atomic_write, write_mmcif, write_pdb, write_star  # noqa: E402
 
 from shiftcheck.chem.residues import ONE_TO_THREE  # noqa: E402
 from shiftcheck.structure.builder import build_backbone, build_protein  # noqa: E402
@@ -54,6 +55,7 @@ MODELS = [
 ]
 # shipped models are listed in shuffled order so that the true fold is not simply "model 1"
 SHIPPED_ORDER = [3, 1, 4, 0, 2]
+REFINE_CYCLES = 2           # rounds of backbone de-clashing + side-chain repacking per model
 
 
 def _z(i: int) -> int:
@@ -139,10 +141,13 @@ def make_models(seed: int = SEED, kinds: tuple[str, ...] = tuple(KINDS), log=pri
         design = Design(ss=SS, pairs=[], sequence=SEQ, turn_torsions=TURN, rg_max=13.0) \
             if key == "near" else d[key]
         chi = pack_sidechains(SEQ, phi, psi, rng)
-        phi, psi, before, after = refine(design, phi, psi, chi, max_iter=max_iter, window=window)
-        chi = pack_sidechains(SEQ, phi, psi, rng, start=chi, passes=1)
+        energies = []
+        for _ in range(REFINE_CYCLES):        # backbone de-clashing, then repacking on the new backbone
+            phi, psi, before, after = refine(design, phi, psi, chi, max_iter=max_iter, window=window)
+            chi = pack_sidechains(SEQ, phi, psi, rng, start=chi)
+            energies.append(f"{before:.1f} -> {after:.1f}")
         built[key] = (phi, psi, chi)
-        log(f"  {key:8s} restraint energy {e0:7.2f}, clash energy {before:6.1f} -> {after:5.1f} "
+        log(f"  {key:8s} restraint energy {e0:7.2f}, clash energy {', '.join(energies)} "
             f"({time.time() - t0:5.1f} s)")
 
     rng = rng_for("true")
