@@ -24,6 +24,7 @@ from ..chem.residues import AA20, HEAVY_ATOMS
 from ..errors import InputError, ShiftcheckError
 from ..structure.ensemble import Ensemble
 from ._coord_notes import note_dropped, note_missing
+from ._flat import flat_models
 from .pdb_repair import repair_pdb_columns
 from .textfile import read_text_file
 
@@ -276,18 +277,22 @@ def _to_ensemble(st, path: str, chain: str | None) -> Ensemble:
     base = os.path.basename(path)
     notes: dict = {}
     per_model = []
-    first_sig = first = None
-    for model in st:
-        sig = _signature(model, chain_id) if first is not None else None
+    first_sig = first = flat = None     # flat: all models as arrays (io/_flat.py), once checked
+    for mi, model in enumerate(st):
+        sig = None if first is None else (flat.signature(mi, model) if flat else _signature(model, chain_id))
         if first is not None and sig == first_sig:          # same topology: coordinates only
             rk, ak, raw = first
         else:
             rk, ak, raw = _extract(model, chain_id, notes)
             if first is None and rk:
                 first = (rk, ak, raw)
-                first_sig = None if notes.get("altloc") else _signature(model, chain_id)
+                if not notes.get("altloc") and len(st) > 1:
+                    flat = flat_models(st, chain_id, mi, _positions(model, chain_id))
+                first_sig = (None if notes.get("altloc") else
+                             flat.signature(mi, model) if flat else _signature(model, chain_id))
         if rk:
-            xyz = _positions(model, chain_id)[np.asarray(raw, dtype=np.int64)]
+            pos = flat.positions(mi) if flat else _positions(model, chain_id)
+            xyz = pos[np.asarray(raw, dtype=np.int64)]
             per_model.append((str(model.num), rk, ak, xyz))
     if not per_model:
         raise InputError(f"chain {chain_id!r} has no protein residues", path=path)
