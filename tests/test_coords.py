@@ -311,3 +311,16 @@ def test_flat_arrays_follow_changed_models(tmp_path, monkeypatch):
     assert fast.n_models == 6 and fast.n_residues == len(SEQ) + 1 and np.isnan(fast.coords[2]).any()
     assert np.array_equal(fast.coords[5], fast.coords[0], equal_nan=True)
     assert sorted(set(used)) == list(range(6))        # every model from the flat arrays
+
+
+def test_indices_equal_one_by_one_lookup(realdata):
+    """Ensemble.indices (per-name tables) equals Ensemble.index called atom by atom, including
+    residues outside the chain, absent names and arrays of names (1D3Z, ubiquitin)."""
+    ens = read_models([realdata / "ubiquitin" / "1D3Z.pdb"])[0]
+    r = np.arange(-2, ens.n_residues + 3)
+    for nm in ("CA", "H", "HA", "HA2", "CB", "SG", "HD21", "XX"):
+        assert np.array_equal(ens.indices(r, nm), [ens.index(i, nm) for i in r])
+    names = np.array(ens.atom_name, dtype=object)[::-1]
+    res = np.array(ens.atom_res)[::-1]
+    assert np.array_equal(ens.indices(res, names), [ens.index(i, n) for i, n in zip(res, names)])
+    assert np.array_equal(ens.indices(res, names), np.arange(ens.n_atoms)[::-1])

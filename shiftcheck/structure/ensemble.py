@@ -78,11 +78,16 @@ class Ensemble:
 
         return "".join(THREE_TO_ONE.get(str(r), "X") for r in self.res_name)
 
-    def _lookup(self) -> dict:
+    def _cache(self) -> dict:
         if self._index is None:
-            self._index = {(int(r), str(a)): i for i, (r, a) in
-                           enumerate(zip(self.atom_res, self.atom_name))}
+            self._index = {}
         return self._index
+
+    def _lookup(self) -> dict:
+        c = self._cache()
+        if "atoms" not in c:
+            c["atoms"] = {(int(r), str(a)): i for i, (r, a) in enumerate(zip(self.atom_res, self.atom_name))}
+        return c["atoms"]
 
     def index(self, res_index: int, atom_name: str) -> int:
         """Atom index of ``atom_name`` in residue ``res_index`` (0-based), or -1."""
@@ -95,10 +100,29 @@ class Ensemble:
         Residue indices outside the chain give -1.
         """
         res_index = np.asarray(res_index)
+        if res_index.dtype.kind not in "iu":
+            res_index = res_index.astype(np.int64)
+        if isinstance(atom_name, str) or np.ndim(atom_name) == 0:
+            return self._take(str(atom_name), res_index)
         names = np.broadcast_to(np.asarray(atom_name, dtype=object), res_index.shape)
-        look = self._lookup()
-        return np.fromiter((look.get((int(r), str(a)), -1) for r, a in zip(res_index, names)),
-                           dtype=np.int64, count=res_index.size).reshape(res_index.shape)
+        out = np.full(res_index.shape, -1, dtype=np.int64)
+        for nm in set(names.ravel().tolist()):
+            sel = names == nm
+            out[sel] = self._take(str(nm), res_index[sel])
+        return out
+
+    def _take(self, name: str, res_index: np.ndarray) -> np.ndarray:
+        """Atom index of ``name`` in each residue of ``res_index`` via a per-name table
+        (n_res,) built once per ensemble (one comparison over the atom names)."""
+        tables = self._cache().setdefault("tables", {})
+        tab = tables.get(name)
+        if tab is None:
+            tab = np.full(self.n_residues + 1, -1, dtype=np.int64)     # last entry: out of range
+            hit = np.flatnonzero(np.asarray(self.atom_name) == name)
+            tab[np.asarray(self.atom_res)[hit]] = hit
+            tables[name] = tab
+        r = np.where((res_index >= 0) & (res_index < self.n_residues), res_index, self.n_residues)
+        return tab[r].reshape(res_index.shape)
 
     def xyz(self, res_index: np.ndarray, atom_name: str | np.ndarray) -> np.ndarray:
         """Coordinates (n_models, len(res_index), 3) of the named atoms, NaN where absent."""
