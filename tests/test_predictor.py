@@ -163,3 +163,32 @@ def test_bad_params_exit_2(realdata, tmp_path, capsys):
     bad.write_text("[]")
     assert main(["predict", str(realdata / "ubiquitin" / "1ubq.pdb"), "--params", str(bad)]) == 2
     assert str(bad) in capsys.readouterr().err
+
+
+def test_predict_many_stacks_same_topology_files_with_equal_results(realdata):
+    """Files of one decoy set (here the 20 models of 2K5P as 20 one-model ensembles, with
+    ubiquitin 1D3Z in between) predicted as stacks equal one-by-one predictions (1e-9 ppm),
+    names and shapes included."""
+    import dataclasses
+
+    from shiftcheck.io.coords import read_models
+    from shiftcheck.predict.model import Predictor
+    from shiftcheck.structure.ensemble import stack_compatible
+
+    a = read_models([realdata / "this" / "2k5p.pdb"])[0]
+    u = read_models([realdata / "ubiquitin" / "1D3Z.pdb"])[0].select_models([0, 1])
+    singles = [dataclasses.replace(a.select_models([i]), name=f"m{i}.pdb", model_names=[f"m{i}.pdb"])
+               for i in range(a.n_models)]
+    ens = singles[:12] + [u] + singles[12:]
+    assert stack_compatible(singles[0], singles[5]) and not stack_compatible(singles[0], u)
+    pred = Predictor()
+    many = pred.predict_many(ens, max_models=8)
+    assert len(many) == len(ens)
+    for e, p in zip(ens, many):
+        q = pred.predict(e)
+        assert p.ensemble_name == q.ensemble_name and p.model_names == q.model_names
+        assert np.array_equal(p.atom_id, q.atom_id) and np.array_equal(p.res_index, q.res_index)
+        np.testing.assert_allclose(p.values, q.values, rtol=0, atol=1e-9)
+        for t in q.terms:
+            np.testing.assert_allclose(p.terms[t], q.terms[t], rtol=0, atol=1e-9, err_msg=t)
+    assert np.isfinite(many[0].values).sum() > 500

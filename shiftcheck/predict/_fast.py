@@ -9,12 +9,12 @@ Results equal the numpy path up to the order of summation (tests/test_fast_kerne
 both and compares to 1e-9); benchmarks/README.md gives the measured gain that justifies the
 optional dependency.
 
-When to use it: loading numba and its cached machine code costs about a second per process
-(benchmarks/README.md), which the kernels win back only on large stacks, so by default they
-run once a call has at least :data:`MIN_WORK` target-atom candidate pairs
-(models x targets x atoms), and from then on in that process. ``SHIFTCHECK_NUMBA=1`` uses
-them always, ``SHIFTCHECK_NUMBA=0`` never. Compiled code is cached on disk by numba
-(``cache=True``), so only the first run on a machine pays the compilation (several seconds).
+``SHIFTCHECK_NUMBA=0`` in the environment forces the numpy path. The choice depends only on
+that switch and on numba being installed, never on the size of a call, so a prediction does
+not change with how the models are batched. Loading numba and its cached machine code costs
+about a second per process (benchmarks/README.md), won back from a few hundred models on;
+compiled code is cached on disk by numba (``cache=True``), so only the first run on a machine
+pays the compilation (several seconds).
 """
 from __future__ import annotations
 
@@ -27,18 +27,9 @@ __all__ = ["numba_enabled", "contact_density_kernel", "axial_dipole_kernel"]
 _KERNELS: dict = {}
 
 
-#: Candidate pairs (models x targets x atoms) of one call from which numba is loaded.
-MIN_WORK = 5_000_000
-
-
-def numba_enabled(work: float | None = None) -> bool:
-    """True when the compiled kernels should run for a call of ``work`` candidate pairs: numba
-    importable, not switched off (``SHIFTCHECK_NUMBA=0``), and forced (``=1``), already loaded
-    in this process, or ``work >= MIN_WORK``."""
-    flag = os.environ.get("SHIFTCHECK_NUMBA", "").strip()
-    if flag == "0":
-        return False
-    if flag != "1" and not _KERNELS.get("loaded") and (work is None or work < MIN_WORK):
+def numba_enabled() -> bool:
+    """True when numba is importable and not switched off by ``SHIFTCHECK_NUMBA=0``."""
+    if os.environ.get("SHIFTCHECK_NUMBA", "").strip() == "0":
         return False
     if "numba" not in _KERNELS:
         try:
@@ -46,7 +37,6 @@ def numba_enabled(work: float | None = None) -> bool:
             _KERNELS["numba"] = True
         except ImportError:
             _KERNELS["numba"] = False
-    _KERNELS["loaded"] = _KERNELS["numba"]
     return _KERNELS["numba"]
 
 

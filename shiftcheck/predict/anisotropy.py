@@ -87,7 +87,7 @@ def anisotropy_features(ens: Ensemble, targets: np.ndarray, cutoff: float | None
     t_res = np.full(n_t, -10, dtype=np.int64)
     t_res[have] = np.asarray(ens.atom_res)[targets[have]]
     origin, x, z, gres = peptide_frames(ens)
-    if numba_enabled(n_models * n_t * gres.size):   # compiled (optional numba); below: the reference
+    if numba_enabled():   # compiled (optional numba); below: the reference
         with np.errstate(invalid="ignore", divide="ignore"):
             axes = np.stack([a / np.linalg.norm(a, axis=-1, keepdims=True) for a in (x, z)])
         val = axial_dipole_kernel(tx, t_res, origin, axes, gres, rc)

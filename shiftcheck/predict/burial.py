@@ -113,7 +113,7 @@ def contact_density(ens: Ensemble, targets, radii=(6.0, 8.0, 10.0), width: float
     heavy = np.flatnonzero(np.asarray(ens.element).astype(str) != "H")
     h_res = np.asarray(ens.atom_res)[heavy]
     cutoff = float(max(radii)) + max(width, 0.0)
-    if numba_enabled(n_models * n_t * heavy.size):   # compiled (optional numba); below: the reference
+    if numba_enabled():   # compiled (optional numba); below: the reference
         val = contact_density_kernel(tx, t_res, ens.coords[:, heavy], h_res,
                                      np.asarray(radii, float), float(width), exclude, cutoff)
         return {f"bur:{float(rad):g}": val[k] for k, rad in enumerate(radii)}

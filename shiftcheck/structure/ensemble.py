@@ -10,7 +10,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-__all__ = ["Ensemble"]
+__all__ = ["Ensemble", "stack_compatible", "stack_ensembles"]
 
 
 @dataclass
@@ -144,3 +144,33 @@ class Ensemble:
         return dataclasses.replace(self, coords=self.coords[which],
                                    model_names=[self.model_names[i] for i in which],
                                    warnings=list(self.warnings), _index=None)
+
+
+def stack_compatible(a: Ensemble, b: Ensemble) -> bool:
+    """True when ``b`` has the topology of ``a`` (chain, residues, atom names, elements, built
+    flags) and the same atoms present in at least one model, so that stacking their models
+    changes nothing an ensemble-wide step derives from the topology."""
+    if a is b:
+        return True
+    if a.chain_id != b.chain_id or a.n_atoms != b.n_atoms or a.n_residues != b.n_residues:
+        return False
+    for f in ("res_seq", "res_icode", "res_name", "atom_res", "atom_name", "element", "built"):
+        if not np.array_equal(getattr(a, f), getattr(b, f)):
+            return False
+    return bool(np.array_equal(_present(a), _present(b)))
+
+
+def _present(ens: Ensemble) -> np.ndarray:
+    return ~np.all(np.isnan(ens.coords[..., 0]), axis=0)
+
+
+def stack_ensembles(ensembles: list[Ensemble]) -> Ensemble:
+    """One ensemble holding the models of several stack-compatible ones, in order (the first
+    one's name and topology; warnings of the first only)."""
+    import dataclasses
+
+    first = ensembles[0]
+    return dataclasses.replace(first, sources=[s for e in ensembles for s in e.sources],
+                               model_names=[m for e in ensembles for m in e.model_names],
+                               coords=np.concatenate([e.coords for e in ensembles]),
+                               warnings=list(first.warnings), _index=None)
