@@ -324,3 +324,25 @@ def test_indices_equal_one_by_one_lookup(realdata):
     res = np.array(ens.atom_res)[::-1]
     assert np.array_equal(ens.indices(res, names), [ens.index(i, n) for i, n in zip(res, names)])
     assert np.array_equal(ens.indices(res, names), np.arange(ens.n_atoms)[::-1])
+
+
+def test_topology_remembered_between_files_only_when_equal(tmp_path, monkeypatch):
+    """A second file of the same topology reuses the first one's (io.coords._KNOWN) and reads
+    as a fresh read does; other elements, names or waters in an otherwise equal file are not
+    taken from the remembered topology."""
+    from shiftcheck.io import _flat, coords
+
+    lines = pdb_lines(_ens())
+    files = {"a": lines, "b": pdb_lines(_ens(2.0)),
+             "elem": [ln[:76] + " S" + ln[78:] if ln[12:16] == " CB " else ln for ln in lines],
+             "name": [ln.replace(" CG  LYS", " CX  LYS") for ln in lines],
+             "water": lines + ["HETATM 9999  O   HOH A 101       1.000   2.000   3.000  1.00  0.00           O"]}
+    monkeypatch.setattr(coords, "_KNOWN", {})
+    for k, ls in files.items():
+        (tmp_path / f"{k}.pdb").write_text("\n".join(ls) + "\nEND\n")
+        fast = read_model_file(tmp_path / f"{k}.pdb")
+        monkeypatch.setattr(_flat, "USE_FLAT", False)
+        slow = read_model_file(tmp_path / f"{k}.pdb")
+        monkeypatch.setattr(_flat, "USE_FLAT", True)
+        _same_ensemble(fast, slow)
+    assert len(coords._KNOWN) == 4          # a and b share one topology

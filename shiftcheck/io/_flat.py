@@ -7,15 +7,16 @@ hands over positions, atom/residue/chain names, numbers, insertion codes and alt
 locations of every atom of every model as arrays, in gemmi's own order (model, chain, residue,
 atom — the order of iterating over the objects):
 
-* :meth:`FlatModels.signature` of a model is the bytes of those fields of the chosen chain's
-  atoms plus the residue sizes — exactly the content of the object-based signature (residue
-  name, number, insertion code, atom names and altlocs per residue), so equal signatures mean
-  equal topology;
+* :meth:`FlatModels.signature` of a model is the bytes of those fields (and the elements) of
+  the chosen chain's atoms plus the residue sizes — the content of the object-based signature
+  (residue name, number, insertion code, atom names and altlocs per residue) and everything
+  else the topology is built from, so equal signatures mean equal topology, also between
+  files (shiftcheck.io.coords remembers the topologies of files read before);
 * :meth:`FlatModels.positions` is the chain's slice of the position array.
 
 :func:`flat_models` returns None (the caller then walks gemmi's objects) when gemmi has no
-FlatStructure, a name does not fit its fixed-width fields, or the first model's positions do
-not equal those read from the objects.
+FlatStructure or a name does not fit its fixed-width fields; the caller also walks the objects
+when the first model's positions do not equal those read from the objects.
 
 Set ``USE_FLAT = False`` (module attribute) to walk the objects always (tests compare both).
 """
@@ -48,6 +49,7 @@ class FlatModels:
         self._mine = (chains == key).all(axis=1)
         fields = np.concatenate([names, resn, np.asarray(fs.altlocs, np.int8)[:, None],
                                  np.asarray(fs.icodes, np.int8)[:, None],
+                                 np.asarray(fs.elements, np.uint8).view(np.int8)[:, None],
                                  np.ascontiguousarray(np.asarray(fs.resnums, np.int32)).view(np.int8).reshape(-1, 4)],
                                 axis=1)
         self._fields = np.ascontiguousarray(fields)
@@ -69,14 +71,12 @@ class FlatModels:
         return self.pos[self._rows(k)]
 
 
-def flat_models(st, chain_id: str, k: int, positions: np.ndarray) -> FlatModels | None:
-    """:class:`FlatModels` of ``st`` if available and its model ``k`` equals ``positions``."""
+def flat_models(st, chain_id: str) -> FlatModels | None:
+    """:class:`FlatModels` of ``st``, or None where unavailable. The caller checks one model's
+    positions against the object walk before trusting the order (shiftcheck.io.coords)."""
     if not USE_FLAT:
         return None
     try:
-        fm = FlatModels(st, chain_id)
+        return FlatModels(st, chain_id)
     except (ImportError, AttributeError, ValueError, TypeError):
         return None
-    if not np.array_equal(fm.positions(k), positions):
-        return None
-    return fm

@@ -13,6 +13,7 @@ with NaN coordinates where an atom is absent.
 """
 from __future__ import annotations
 
+import copy
 import os
 import re
 from typing import Sequence
@@ -271,6 +272,12 @@ def _extract(model, chain_id: str, notes: dict) -> tuple[list, list, list]:
     return res_keys, atom_keys, raw
 
 
+#: Topologies of first models read before, by (chain, flat signature): residue keys, atom keys,
+#: raw indices and notes. The files of a decoy set share one, so each later file skips the
+#: per-atom walk of :func:`_extract` (filled only after the flat arrays were checked).
+_KNOWN: dict = {}
+
+
 def _to_ensemble(st, path: str, chain: str | None) -> Ensemble:
     warnings: list[str] = []
     chain_id = _choose_chain(st[0], chain, path, warnings)
@@ -278,16 +285,28 @@ def _to_ensemble(st, path: str, chain: str | None) -> Ensemble:
     notes: dict = {}
     per_model = []
     first_sig = first = flat = None     # flat: all models as arrays (io/_flat.py), once checked
+    fm = flat_models(st, chain_id)
     for mi, model in enumerate(st):
         sig = None if first is None else (flat.signature(mi, model) if flat else _signature(model, chain_id))
         if first is not None and sig == first_sig:          # same topology: coordinates only
             rk, ak, raw = first
         else:
-            rk, ak, raw = _extract(model, chain_id, notes)
+            key = (chain_id, fm.signature(mi, model)) if (first is None and fm is not None) else None
+            known = _KNOWN.get(key) if key is not None else None
+            if known is not None:                           # a file of this topology was read before
+                rk, ak, raw = known[:3]
+                notes.update(copy.deepcopy(known[3]))
+                flat = fm
+            else:
+                rk, ak, raw = _extract(model, chain_id, notes)
             if first is None and rk:
                 first = (rk, ak, raw)
-                if not notes.get("altloc") and len(st) > 1:
-                    flat = flat_models(st, chain_id, mi, _positions(model, chain_id))
+                if (known is None and fm is not None and not notes.get("altloc")
+                        and np.array_equal(fm.positions(mi), _positions(model, chain_id))):
+                    flat = fm
+                    if len(_KNOWN) >= 64:
+                        _KNOWN.clear()
+                    _KNOWN[key] = (rk, ak, raw, copy.deepcopy(notes))
                 first_sig = (None if notes.get("altloc") else
                              flat.signature(mi, model) if flat else _signature(model, chain_id))
         if rk:

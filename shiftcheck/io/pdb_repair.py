@@ -45,6 +45,7 @@ _BAD_LINE = re.compile(rf"^(?:ATOM  |HETATM)(?=.{{48}})(?!.{{48}}{_GOOD_TAIL}).*
 # check each distinct tail once (an NMR ensemble repeats a few thousand tails over all models)
 _TAIL = re.compile(r"^(?:ATOM  |HETATM).{48}(.*)", re.M | re.I)
 _GOOD = re.compile(_GOOD_TAIL, re.I)
+_SEEN_GOOD: set[str] = set()       # good tails met before (the files of a decoy set repeat them)
 _FLOAT = re.compile(r"^ *[-+]?(?:\d+\.?\d*|\.\d+) *$| *$")
 _CHARGE = re.compile(rf"^(?:{_CH})$")
 
@@ -95,7 +96,11 @@ def repair_pdb_columns(text: str) -> tuple[str, list[str]]:
         object, when nothing needed repair) and one note per kind of repair, e.g.
         ``"line 3: charge column (79-80) is not a charge: ignored ('01', 2 lines)"``.
     """
-    if all(_GOOD.match(t) for t in set(_TAIL.findall(text))):
+    tails = set(_TAIL.findall(text)) - _SEEN_GOOD      # tails checked in earlier files are good
+    if all(_GOOD.match(t) for t in tails):
+        if len(_SEEN_GOOD) + len(tails) > 200_000:
+            _SEEN_GOOD.clear()
+        _SEEN_GOOD.update(tails)
         return text, []
     found: dict[str, list] = {}
     # line numbers: count newlines incrementally between bad lines

@@ -12,6 +12,8 @@ import numpy as np
 
 __all__ = ["Ensemble", "stack_compatible", "stack_ensembles"]
 
+_SHARED: dict = {}     # topology (residue count, atom residues, atom names) -> name lookups
+
 
 @dataclass
 class Ensemble:
@@ -79,8 +81,17 @@ class Ensemble:
         return "".join(THREE_TO_ONE.get(str(r), "X") for r in self.res_name)
 
     def _cache(self) -> dict:
+        """Name lookups of this topology; shared by all ensembles with the same residues and
+        atom names (the files of a decoy set, the copies made while building protons)."""
         if self._index is None:
-            self._index = {}
+            names = np.asarray(self.atom_name)
+            key = (self.n_residues, np.asarray(self.atom_res, dtype=np.int64).tobytes(),
+                   (names if names.dtype.kind == "U" else names.astype(str)).astype("U8").tobytes())
+            if key not in _SHARED:
+                if len(_SHARED) >= 32:
+                    _SHARED.clear()
+                _SHARED[key] = {}
+            self._index = _SHARED[key]
         return self._index
 
     def _lookup(self) -> dict:
