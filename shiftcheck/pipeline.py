@@ -81,7 +81,7 @@ def predict_batch(shifts: ShiftList, batch: Batch, predictor: Predictor,
     mappings = batch.mappings
     if mappings is None:
         mappings = tuple(map_sequence(shifts, ens, min_identity=min_identity) for ens in batch.ensembles)
-    preds = tuple(predictor.predict(ens, shifts.conditions) for ens in batch.ensembles)
+    preds = tuple(predictor.predict_many(batch.ensembles, shifts.conditions))   # same-topology files stacked
     return BatchResult(batch.index, mappings, preds)
 
 

@@ -112,8 +112,8 @@ class Predictor:
                           params_source=str(self.params.get("_path", "<dict>")) + f" [{self.ring_model}]")
 
     def predict_many(self, ensembles, conditions=None, max_models: int = 1024) -> list[Prediction]:
-        """Predictions of several ensembles, equal to ``[predict(e) for e in ensembles]`` (to
-        rounding, 1e-9 ppm): runs of consecutive stack-compatible ensembles
+        """Predictions of several ensembles, equal to ``[predict(e) for e in ensembles]``
+        (exactly: no computed number depends on the other models of a stack): runs of consecutive stack-compatible ensembles
         (:func:`shiftcheck.structure.ensemble.stack_compatible` — the files of one decoy set)
         are predicted as one model stack of at most ``max_models`` models and split again, so
         the per-topology work (targets, random-coil table, design-matrix layout, ring and
