@@ -140,7 +140,8 @@ def files_vs_one(tmp: Path, ens200: Path, shifts: Path, n: int) -> None:
     pred = Predictor()
     t_files = best_of(lambda: cli(paths), 1)
     t_one = best_of(lambda: cli([one]), 1)
-    t_lib_files = best_of(lambda: pred.predict_many(read_models(paths)), 1)
+    many = getattr(pred, "predict_many", lambda ens: [pred.predict(e) for e in ens])   # older versions
+    t_lib_files = best_of(lambda: many(read_models(paths)), 1)
     t_lib_one = best_of(lambda: pred.predict(read_models([one])[0]), 1)
     print(f"{n} single-model files against one {n}-model file:")
     print(f"  score --no-report, in-process: {t_files:7.2f} s against {t_one:6.2f} s = {t_files / t_one:5.2f} x")
