@@ -69,14 +69,11 @@ def read_models(paths: str | os.PathLike | Sequence[str | os.PathLike], chain: s
     """
     if isinstance(paths, (str, os.PathLike)):
         paths = [paths]
-    out = []
-    for p in paths:
-        ens = read_model_file(p, chain=chain)
-        if build_hydrogens:
-            from ..structure.hydrogens import add_hydrogens
+    out = [read_model_file(p, chain=chain) for p in paths]
+    if build_hydrogens:               # files of one topology built as one stack (same result)
+        from ..structure.hydrogens import add_hydrogens_many
 
-            ens = add_hydrogens(ens)
-        out.append(ens)
+        out = add_hydrogens_many(out)
     return out
 
 
