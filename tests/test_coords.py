@@ -208,11 +208,11 @@ def _same_ensemble(a, b):
 
 
 def _read_both(path, monkeypatch):
-    from shiftcheck.io import coords
+    from shiftcheck.io import _flat
 
     out = []
     for flag in (True, False):
-        monkeypatch.setattr(coords, "USE_TEXT_COLUMNS", flag)
+        monkeypatch.setattr(_flat, "USE_FLAT", flag)
         try:
             out.append(read_model_file(path))
         except Exception as exc:      # a refused file must be refused the same way
@@ -220,24 +220,9 @@ def _read_both(path, monkeypatch):
     return out
 
 
-def test_text_columns_give_identical_ensembles_on_every_realdata_file(realdata, monkeypatch):
-    """Further models taken from the PDB text columns (shiftcheck.io.pdb_columns) equal those
-    taken from gemmi's objects: coordinates, names, numbering, warnings; every public file."""
-    paths = sorted(p for p in realdata.rglob("*") if p.suffix in (".pdb", ".cif", ".gz"))
-    assert len(paths) > 100
-    multi = 0
-    for p in paths:
-        fast, slow = _read_both(p, monkeypatch)
-        if isinstance(slow, str):
-            assert fast == slow, p
-            continue
-        _same_ensemble(fast, slow)
-        multi += fast.n_models > 1
-    assert multi > 20
-
-
-def test_text_columns_follow_changed_records_and_free_format(tmp_path, monkeypatch):
-    """A later model with other records, or coordinates not in %8.3f, is still read as gemmi reads it."""
+def test_flat_arrays_with_other_records_and_free_format(tmp_path, monkeypatch):
+    """Later models with other records, or coordinates not in %8.3f (two decimals, -0.000),
+    are read from the flat arrays as from gemmi's objects."""
     e0, e1 = _ens(), _ens(1.25)
     m2 = pdb_lines(e1)
     m2 = [ln[:30] + f"{float(ln[30:38]):8.2f}" + ln[38:] for ln in m2]           # 2 decimals
@@ -250,27 +235,6 @@ def test_text_columns_follow_changed_records_and_free_format(tmp_path, monkeypat
     fast, slow = _read_both(path, monkeypatch)
     _same_ensemble(fast, slow)
     assert fast.n_models == 5 and np.isnan(fast.coords[2]).any() and not np.isnan(fast.coords[1]).any()
-
-
-def _same_ensemble(a, b):
-    assert a.model_names == b.model_names and a.chain_id == b.chain_id
-    for f in ("res_seq", "res_icode", "res_name", "atom_res", "atom_name", "element"):
-        assert np.array_equal(getattr(a, f), getattr(b, f)), f
-    assert np.array_equal(a.coords, b.coords, equal_nan=True)
-    assert a.warnings == b.warnings
-
-
-def _read_both(path, monkeypatch):
-    from shiftcheck.io import _flat
-
-    out = []
-    for flag in (True, False):
-        monkeypatch.setattr(_flat, "USE_FLAT", flag)
-        try:
-            out.append(read_model_file(path))
-        except Exception as exc:      # a refused file must be refused the same way
-            out.append(type(exc).__name__ + str(exc))
-    return out
 
 
 def test_flat_arrays_give_identical_ensembles_on_every_realdata_file(realdata, monkeypatch):

@@ -59,11 +59,25 @@ def grid(pts, cutoff):   # pragma: no cover (compiled)
     shape = np.array([nx, ny, nz])
     return spts, sidx, start, lo, cell, shape
 
+
 @numba.njit(cache=True, nogil=True)
-def cell_range(p, lo, cell, shape, d):   # pragma: no cover (compiled)
-    """First and last+1 cell index along axis d holding points within one cell of p."""
-    g = int(np.floor(min(max((p - lo[d]) / cell, -2.0), shape[d] + 1.0)))
-    return max(g - 1, 0), min(g + 1, shape[d] - 1) + 1
+def near_cells(px, py, pz, lo, cell, shape, cells):   # pragma: no cover (compiled)
+    """Fill ``cells`` with the ids of the cells within one cell of the point (in (x, y, z)
+    order); return their number, 0 for a point with a NaN coordinate."""
+    if not (np.isfinite(px) and np.isfinite(py) and np.isfinite(pz)):
+        return 0
+    r = np.empty((3, 2), np.int64)
+    for d, p in enumerate((px, py, pz)):
+        g = int(np.floor(min(max((p - lo[d]) / cell, -2.0), shape[d] + 1.0)))
+        r[d, 0], r[d, 1] = max(g - 1, 0), min(g + 1, shape[d] - 1) + 1
+    n = 0
+    for a in range(r[0, 0], r[0, 1]):
+        for b in range(r[1, 0], r[1, 1]):
+            for e in range(r[2, 0], r[2, 1]):
+                cells[n] = (a * shape[1] + b) * shape[2] + e
+                n += 1
+    return n
+
 
 @numba.njit(cache=True, nogil=True)
 def contact_density(tx, t_res, hx, h_res, radii, width, exclude, cutoff):   # pragma: no cover
@@ -72,42 +86,36 @@ def contact_density(tx, t_res, hx, h_res, radii, width, exclude, cutoff):   # pr
     out = np.zeros((n_r, n_models, n_t))
     c2 = cutoff * cutoff
     half_pi = 0.5 * np.pi
+    cells = np.empty(27, np.int64)
     for m in range(n_models):
         spts, sidx, start, lo, cell, shape = grid(hx[m], cutoff)
         if spts.shape[0] == 0:
             continue
-        ny, nz = shape[1], shape[2]
         for i in range(n_t):
             px, py, pz = tx[m, i, 0], tx[m, i, 1], tx[m, i, 2]
-            if not (np.isfinite(px) and np.isfinite(py) and np.isfinite(pz)):
-                continue
             ti = t_res[i]
-            a0, a1 = cell_range(px, lo, cell, shape, 0)
-            b0, b1 = cell_range(py, lo, cell, shape, 1)
-            e0, e1 = cell_range(pz, lo, cell, shape, 2)
-            for a in range(a0, a1):
-                for b in range(b0, b1):
-                    for e in range(e0, e1):
-                        c = (a * ny + b) * nz + e
-                        for q in range(start[c], start[c + 1]):
-                            dx = spts[q, 0] - px
-                            dy = spts[q, 1] - py
-                            dz = spts[q, 2] - pz
-                            d2 = dx * dx + dy * dy + dz * dz
-                            if d2 > c2 or abs(h_res[sidx[q]] - ti) <= exclude:
-                                continue
-                            r = np.sqrt(d2)
-                            for k in range(n_r):
-                                rad = radii[k]
-                                if width <= 0.0:
-                                    if r <= rad:
-                                        out[k, m, i] += 1.0
-                                elif r <= rad - width:
-                                    out[k, m, i] += 1.0
-                                elif r < rad + width:
-                                    s = np.cos(half_pi * ((r - rad + width) / (2.0 * width)))
-                                    out[k, m, i] += s * s
+            for ci in range(near_cells(px, py, pz, lo, cell, shape, cells)):
+                c = cells[ci]
+                for q in range(start[c], start[c + 1]):
+                    dx = spts[q, 0] - px
+                    dy = spts[q, 1] - py
+                    dz = spts[q, 2] - pz
+                    d2 = dx * dx + dy * dy + dz * dz
+                    if d2 > c2 or abs(h_res[sidx[q]] - ti) <= exclude:
+                        continue
+                    r = np.sqrt(d2)
+                    for k in range(n_r):
+                        rad = radii[k]
+                        if width <= 0.0:
+                            if r <= rad:
+                                out[k, m, i] += 1.0
+                        elif r <= rad - width:
+                            out[k, m, i] += 1.0
+                        elif r < rad + width:
+                            s = np.cos(half_pi * ((r - rad + width) / (2.0 * width)))
+                            out[k, m, i] += s * s
     return out
+
 
 @numba.njit(cache=True, nogil=True)
 def axial_dipole(tx, t_res, origin, axes, g_res, cutoff):   # pragma: no cover (compiled)
@@ -115,34 +123,27 @@ def axial_dipole(tx, t_res, origin, axes, g_res, cutoff):   # pragma: no cover (
     n_ax = axes.shape[0]
     out = np.zeros((n_ax, n_models, n_t))
     c2 = cutoff * cutoff
+    cells = np.empty(27, np.int64)
     for m in range(n_models):
         spts, sidx, start, lo, cell, shape = grid(origin[m], cutoff)
         if spts.shape[0] == 0:
             continue
-        ny, nz = shape[1], shape[2]
         for i in range(n_t):
             px, py, pz = tx[m, i, 0], tx[m, i, 1], tx[m, i, 2]
-            if not (np.isfinite(px) and np.isfinite(py) and np.isfinite(pz)):
-                continue
             ti = t_res[i]
-            a0, a1 = cell_range(px, lo, cell, shape, 0)
-            b0, b1 = cell_range(py, lo, cell, shape, 1)
-            e0, e1 = cell_range(pz, lo, cell, shape, 2)
-            for a in range(a0, a1):
-                for b in range(b0, b1):
-                    for e in range(e0, e1):
-                        c = (a * ny + b) * nz + e
-                        for q in range(start[c], start[c + 1]):
-                            j = sidx[q]
-                            if g_res[j] == ti or g_res[j] == ti - 1:
-                                continue
-                            vx = px - spts[q, 0]
-                            vy = py - spts[q, 1]
-                            vz = pz - spts[q, 2]
-                            r2 = vx * vx + vy * vy + vz * vz
-                            if r2 > c2:
-                                continue
-                            for k in range(n_ax):
-                                z = vx * axes[k, m, j, 0] + vy * axes[k, m, j, 1] + vz * axes[k, m, j, 2]
-                                out[k, m, i] += (1.0 - 3.0 * z * z / r2) / (r2 * np.sqrt(r2))
+            for ci in range(near_cells(px, py, pz, lo, cell, shape, cells)):
+                c = cells[ci]
+                for q in range(start[c], start[c + 1]):
+                    j = sidx[q]
+                    if g_res[j] == ti or g_res[j] == ti - 1:
+                        continue
+                    vx = px - spts[q, 0]
+                    vy = py - spts[q, 1]
+                    vz = pz - spts[q, 2]
+                    r2 = vx * vx + vy * vy + vz * vz
+                    if r2 > c2:
+                        continue
+                    for k in range(n_ax):
+                        z = vx * axes[k, m, j, 0] + vy * axes[k, m, j, 1] + vz * axes[k, m, j, 2]
+                        out[k, m, i] += (1.0 - 3.0 * z * z / r2) / (r2 * np.sqrt(r2))
     return out
