@@ -8,7 +8,7 @@ BIN := $(VENV)/bin
 $(BIN)/shiftcheck: pyproject.toml
 	$(PYTHON) -m venv $(VENV)
 	$(BIN)/python -m pip install --quiet --upgrade pip
-	$(BIN)/python -m pip install --quiet -e '.[test,pandas,cluster]'
+	$(BIN)/python -m pip install --quiet -e '.[test,pandas,cluster,fast]'
 	touch $(BIN)/shiftcheck
 
 install: $(BIN)/shiftcheck

@@ -18,7 +18,19 @@ Prints, side by side in one run (best of ``--repeat`` runs each; the machine may
    touch; the chain is broken between copies, which the torsion code sees as a chain break)
    and cut at 1,000 residues, two identical models; shiftcheck builds its hydrogens, as for
    any crystal structure. Per-atom time = time / (models x atoms after hydrogen building).
+   The two differ in more than length (an NMR ensemble with its protons against a crystal
+   structure of a membrane protein rich in aromatic rings, protons built), so a second pair
+   isolates the length: model 1 of 3CI2 prepared the same way (``build_long_chain``, protons
+   removed and rebuilt, two models) at 64 and at 1,000 residues (CI2 copied end to end).
 3. ``python -m shiftcheck --help`` wall time.
+4. Separate files against one file (``--files N``, default 1000; 0 skips): the first N models
+   of the 200-model set above written as N single-model files and as one N-model file; times
+   ``score --no-report`` in-process on each (one run: the file count makes it long) and, for
+   the library, ``read_models`` + ``Predictor.predict_many`` on the N files (same-topology
+   files predicted as one stack) against ``read_models`` + ``predict`` on the one file.
+
+The compiled kernels (numba, ``shiftcheck[fast]``) are used when installed; set
+``SHIFTCHECK_NUMBA=0`` to time the numpy path.
 """
 from __future__ import annotations
 
@@ -93,6 +105,50 @@ def build_long_chain(src: Path, dest: Path, n_res: int = 1000, n_models: int = 2
     dest.write_text(out.make_pdb_string())
 
 
+def files_vs_one(tmp: Path, ens200: Path, shifts: Path, n: int) -> None:
+    """Part 4: n single-model files against one n-model file (see the module docstring)."""
+    from shiftcheck.cli import main as cli_main
+    from shiftcheck.io.coords import read_models
+    from shiftcheck.predict.model import Predictor
+
+    blocks, cur = [], None
+    for line in ens200.read_text().splitlines(keepends=True):
+        if line.startswith("MODEL"):
+            cur = []
+        elif line.startswith("ENDMDL"):
+            blocks.append(cur)
+            cur = None
+        elif cur is not None:
+            cur.append(line)
+    folder = tmp / "files"
+    folder.mkdir()
+    paths = []
+    for k in range(n):
+        p = folder / f"decoy_{k + 1:05d}.pdb"
+        p.write_text("".join(blocks[k % len(blocks)]) + "END\n")
+        paths.append(p)
+    one = tmp / f"one_{n}.pdb"
+    one.write_text("".join(f"MODEL     {k + 1:4d}\n" + "".join(blocks[k % len(blocks)]) + "ENDMDL\n"
+                           for k in range(n)) + "END\n")
+
+    def cli(models):
+        with contextlib.redirect_stdout(io.StringIO()):
+            rc = cli_main(["score", str(shifts), *map(str, models), "-o", str(tmp / "out_f"),
+                           "--no-report", "--quiet", "--force"])
+        assert rc == 0, rc
+
+    pred = Predictor()
+    t_files = best_of(lambda: cli(paths), 1)
+    t_one = best_of(lambda: cli([one]), 1)
+    many = getattr(pred, "predict_many", lambda ens: [pred.predict(e) for e in ens])   # older versions
+    t_lib_files = best_of(lambda: many(read_models(paths)), 1)
+    t_lib_one = best_of(lambda: pred.predict(read_models([one])[0]), 1)
+    print(f"{n} single-model files against one {n}-model file:")
+    print(f"  score --no-report, in-process: {t_files:7.2f} s against {t_one:6.2f} s = {t_files / t_one:5.2f} x")
+    print(f"  read_models + predict_many:    {t_lib_files:7.2f} s against {t_lib_one:6.2f} s = "
+          f"{t_lib_files / t_lib_one:5.2f} x")
+
+
 def _score_args(shifts, pdb, outdir):
     return ["score", str(shifts), str(pdb), "-o", str(outdir), "--no-report", "--quiet", "--force"]
 
@@ -100,6 +156,7 @@ def _score_args(shifts, pdb, outdir):
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--repeat", type=int, default=3, help="runs per figure; the best is kept")
+    ap.add_argument("--files", type=int, default=1000, help="single-model files for part 4 (0: skip)")
     a = ap.parse_args(argv)
     data = realdata_root()
     import gemmi
@@ -155,6 +212,22 @@ def main(argv=None) -> int:
                   f"{(t_read + t_pred) / n * 1e6:6.2f} us/atom ({t_pred / n * 1e6:5.2f} us/atom)")
         v = list(per.values())
         print(f"  ratio 1000 / 60 residues: {v[1] / v[0]:.2f} (target <= 1.3)")
+        # like for like: the same protein prepared the same way, only the length differs
+        per2 = []
+        for n_res in (64, 1000):
+            path = tmp / f"ci2_{n_res}.pdb"
+            build_long_chain(small, path, n_res=n_res)
+            ens = read_models([path])[0]
+            n = ens.n_models * ens.n_atoms
+            t_read = best_of(lambda: read_models([path]), a.repeat)
+            t_pred = best_of(lambda: pred.predict(ens), a.repeat)
+            per2.append((t_read + t_pred) / n)
+            print(f"  3CI2 model 1 chained, {n_res:4d} res {ens.n_models:3d} models {ens.n_atoms:6d} atoms: "
+                  f"{per2[-1] * 1e6:6.2f} us/atom ({t_pred / n * 1e6:5.2f} us/atom)")
+        print(f"  ratio 1000 / 64 residues, same protein and preparation: {per2[1] / per2[0]:.2f}")
+
+        if a.files:
+            files_vs_one(tmp, pdb, shifts, a.files)
 
     t_help = best_of(lambda: subprocess.run([sys.executable, "-m", "shiftcheck", "--help"], env=env,
                                             check=True, capture_output=True), max(a.repeat, 5))

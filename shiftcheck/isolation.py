@@ -107,11 +107,15 @@ def read_models_tolerant(paths, chain: str | None = None, build_hydrogens: bool 
     ensembles, skipped = [], []
     for p, lab in zip(paths, labels):
         try:
-            ens = read_models(p, chain=chain, build_hydrogens=build_hydrogens)[0]
+            ens = read_models(p, chain=chain, build_hydrogens=False)[0]
         except ShiftcheckError as exc:
             skipped.append(_fail(exc, p, strict))
             continue
         ensembles.append(_relabel(ens, lab))
+    if build_hydrogens:     # after reading: files of one topology get their protons as one stack
+        from .structure.hydrogens import add_hydrogens_many
+
+        ensembles = add_hydrogens_many(ensembles)
     return ensembles, skipped
 
 

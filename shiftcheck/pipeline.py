@@ -82,7 +82,7 @@ def predict_batch(shifts: ShiftList, batch: Batch, predictor: Predictor,
     mappings = batch.mappings
     if mappings is None:
         mappings = tuple(map_sequence(shifts, ens, min_identity=min_identity) for ens in batch.ensembles)
-    preds = tuple(predictor.predict(ens, shifts.conditions) for ens in batch.ensembles)
+    preds = tuple(predictor.predict_many(batch.ensembles, shifts.conditions))   # same-topology files stacked
     return BatchResult(batch.index, mappings, preds)
 
 
@@ -108,7 +108,7 @@ def reduce_batches(results: Iterable[BatchResult], n: int,
 
 def predict_all(shifts: ShiftList, ensembles: list[Ensemble], predictor: Predictor, *,
                 mappings: list[Mapping] | None = None, min_identity: float | None = None,
-                batch_size: int = 1, mapper: Callable = map,
+                batch_size: int = 64, mapper: Callable = map,
                 progress: Callable[[int, int], None] | None = None) -> tuple[list[Mapping], list[Prediction]]:
     """Map (unless ``mappings`` are given) and predict every ensemble: batches ->
     ``mapper(worker, batches)`` -> reduce."""
@@ -123,7 +123,7 @@ def score_models(shifts: ShiftList, ensembles: list[Ensemble], *, mappings: list
                  params=None, ring_model: str | None = None,
                  min_identity: float | None = None, reref: str = "auto", k_sigma: float | None = None,
                  n_boot: int | None = None, seed: int | None = None, include_mean: bool = True,
-                 batch_size: int = 1, mapper: Callable = map,
+                 batch_size: int = 64, mapper: Callable = map,
                  progress: Callable[[int, int], None] | None = None) -> ScoreResult:
     """Map, predict and score every model of every ensemble against a shift list.
 

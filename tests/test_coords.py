@@ -197,3 +197,116 @@ def test_old_geminal_names_read_as_iupac(tmp_path):
     got = read_model_file(p)
     assert np.allclose(got.xyz([2, 2, 5, 5], np.array(["HA2", "HA3", "HB2", "HB3"], dtype=object))[0],
                        np.array([[1.0] * 3, [2.0] * 3, [3.0] * 3, [4.0] * 3]))
+
+
+def _same_ensemble(a, b):
+    assert a.model_names == b.model_names and a.chain_id == b.chain_id
+    for f in ("res_seq", "res_icode", "res_name", "atom_res", "atom_name", "element"):
+        assert np.array_equal(getattr(a, f), getattr(b, f)), f
+    assert np.array_equal(a.coords, b.coords, equal_nan=True)
+    assert a.warnings == b.warnings
+
+
+def _read_both(path, monkeypatch):
+    from shiftcheck.io import _flat
+
+    out = []
+    for flag in (True, False):
+        monkeypatch.setattr(_flat, "USE_FLAT", flag)
+        try:
+            out.append(read_model_file(path))
+        except Exception as exc:      # a refused file must be refused the same way
+            out.append(type(exc).__name__ + str(exc))
+    return out
+
+
+def test_flat_arrays_with_other_records_and_free_format(tmp_path, monkeypatch):
+    """Later models with other records, or coordinates not in %8.3f (two decimals, -0.000),
+    are read from the flat arrays as from gemmi's objects."""
+    e0, e1 = _ens(), _ens(1.25)
+    m2 = pdb_lines(e1)
+    m2 = [ln[:30] + f"{float(ln[30:38]):8.2f}" + ln[38:] for ln in m2]           # 2 decimals
+    m3 = [ln for ln in pdb_lines(_ens(-2.5)) if ln[12:16].strip() != "CB"]       # atoms missing
+    m4 = [ln[:30] + "  -0.000" + ln[38:] for ln in pdb_lines(e0)]                # negative zero
+    text = "".join(f"MODEL     {k + 1:4d}\n" + "\n".join(m) + "\nENDMDL\n"
+                   for k, m in enumerate([pdb_lines(e0), m2, m3, m4, pdb_lines(e1)])) + "END\n"
+    path = tmp_path / "five.pdb"
+    path.write_text(text)
+    fast, slow = _read_both(path, monkeypatch)
+    _same_ensemble(fast, slow)
+    assert fast.n_models == 5 and np.isnan(fast.coords[2]).any() and not np.isnan(fast.coords[1]).any()
+
+
+def test_flat_arrays_give_identical_ensembles_on_every_realdata_file(realdata, monkeypatch):
+    """Further models read from gemmi.FlatStructure arrays (shiftcheck/io/_flat.py) equal those
+    read by walking gemmi's objects: coordinates, names, numbering, warnings; every public
+    coordinate file (PDB, mmCIF, gzip)."""
+    paths = sorted(p for p in realdata.rglob("*") if p.suffix in (".pdb", ".cif", ".gz"))
+    assert len(paths) > 100
+    multi = 0
+    for p in paths:
+        fast, slow = _read_both(p, monkeypatch)
+        if isinstance(slow, str):
+            assert fast == slow, p
+            continue
+        _same_ensemble(fast, slow)
+        multi += fast.n_models > 1
+    assert multi > 20
+
+
+def test_flat_arrays_follow_changed_models(tmp_path, monkeypatch):
+    """A later model with other atoms, other atom names or a renumbered residue is read as the
+    object walk reads it (topology rebuilt, union of atoms), and the flat path is really taken."""
+    from shiftcheck.io import _flat
+
+    m1, m2 = pdb_lines(_ens()), pdb_lines(_ens(1.25))
+    m3 = [ln for ln in pdb_lines(_ens(-2.5)) if ln[12:16].strip() != "CB"]       # atoms missing
+    m4 = [ln.replace(" CD1 ", " CD  ") if " ILE " in ln else ln for ln in pdb_lines(_ens(0.5))]
+    m5 = [ln[:22] + ("  99" if ln[22:26] == "   3" else ln[22:26]) + ln[26:] for ln in pdb_lines(_ens(3.0))]
+    text = "".join(f"MODEL     {k + 1:4d}\n" + "\n".join(m) + "\nENDMDL\n"
+                   for k, m in enumerate([m1, m2, m3, m4, m5, m1])) + "END\n"
+    path = tmp_path / "six.pdb"
+    path.write_text(text)
+    used = []
+    orig = _flat.FlatModels.positions
+    monkeypatch.setattr(_flat.FlatModels, "positions", lambda self, k: used.append(k) or orig(self, k))
+    fast, slow = _read_both(path, monkeypatch)
+    _same_ensemble(fast, slow)
+    assert fast.n_models == 6 and fast.n_residues == len(SEQ) + 1 and np.isnan(fast.coords[2]).any()
+    assert np.array_equal(fast.coords[5], fast.coords[0], equal_nan=True)
+    assert sorted(set(used)) == list(range(6))        # every model from the flat arrays
+
+
+def test_indices_equal_one_by_one_lookup(realdata):
+    """Ensemble.indices (per-name tables) equals Ensemble.index called atom by atom, including
+    residues outside the chain, absent names and arrays of names (1D3Z, ubiquitin)."""
+    ens = read_models([realdata / "ubiquitin" / "1D3Z.pdb"])[0]
+    r = np.arange(-2, ens.n_residues + 3)
+    for nm in ("CA", "H", "HA", "HA2", "CB", "SG", "HD21", "XX"):
+        assert np.array_equal(ens.indices(r, nm), [ens.index(i, nm) for i in r])
+    names = np.array(ens.atom_name, dtype=object)[::-1]
+    res = np.array(ens.atom_res)[::-1]
+    assert np.array_equal(ens.indices(res, names), [ens.index(i, n) for i, n in zip(res, names)])
+    assert np.array_equal(ens.indices(res, names), np.arange(ens.n_atoms)[::-1])
+
+
+def test_topology_remembered_between_files_only_when_equal(tmp_path, monkeypatch):
+    """A second file of the same topology reuses the first one's (io.coords._KNOWN) and reads
+    as a fresh read does; other elements, names or waters in an otherwise equal file are not
+    taken from the remembered topology."""
+    from shiftcheck.io import _flat, coords
+
+    lines = pdb_lines(_ens())
+    files = {"a": lines, "b": pdb_lines(_ens(2.0)),
+             "elem": [ln[:76] + " S" + ln[78:] if ln[12:16] == " CB " else ln for ln in lines],
+             "name": [ln.replace(" CG  LYS", " CX  LYS") for ln in lines],
+             "water": lines + ["HETATM 9999  O   HOH A 101       1.000   2.000   3.000  1.00  0.00           O"]}
+    monkeypatch.setattr(coords, "_KNOWN", {})
+    for k, ls in files.items():
+        (tmp_path / f"{k}.pdb").write_text("\n".join(ls) + "\nEND\n")
+        fast = read_model_file(tmp_path / f"{k}.pdb")
+        monkeypatch.setattr(_flat, "USE_FLAT", False)
+        slow = read_model_file(tmp_path / f"{k}.pdb")
+        monkeypatch.setattr(_flat, "USE_FLAT", True)
+        _same_ensemble(fast, slow)
+    assert len(coords._KNOWN) == 4          # a and b share one topology

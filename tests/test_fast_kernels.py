@@ -6,6 +6,11 @@ functions (:func:`haigh_mallion`, :func:`johnson_bovey`, :func:`point_dipole` �
 an independent numerical integral in test_ringcurrent_physics.py) and plain distances. They run
 on public NMR ensembles (SHIFTCHECK_REALDATA: 2K5P, 20 models; 1D3Z ubiquitin, 10 models) and
 must agree to 1e-9 (ppm-scale factors; the kernels only reorder the arithmetic).
+
+The contact-density checks run twice: numpy path (``SHIFTCHECK_NUMBA=0``) and the optional
+compiled numba path (shiftcheck[fast]; skipped where numba is not installed), and the two paths
+are compared with each other on the same structures, including absent atoms (NaN, index -1)
+and the switch edge cases (width 0, a far-flung outlier atom).
 """
 from __future__ import annotations
 
@@ -66,7 +71,15 @@ def test_ring_kernel_leaves_out_target_subsets_consistently(ens):
         np.testing.assert_allclose(part[rt], full[rt][:, sel], rtol=0, atol=1e-12)
 
 
-def test_contact_density_equals_reference_loop(ens):
+@pytest.fixture(params=["numpy", "numba"])
+def engine(request, monkeypatch):
+    if request.param == "numba":
+        pytest.importorskip("numba")
+    monkeypatch.setenv("SHIFTCHECK_NUMBA", "1" if request.param == "numba" else "0")
+    return request.param
+
+
+def test_contact_density_equals_reference_loop(ens, engine):
     tg = find_targets(ens)
     t = tg.atom_index[np.isin(tg.nucleus, ["CB", "C", "N"])]
     radii, width, excl = (6.0, 8.0, 10.0), 1.0, 1
@@ -80,3 +93,51 @@ def test_contact_density_equals_reference_loop(ens):
             ref[m] = np.where(far & (d <= rad + width), switch(d, rad, width), 0.0).sum(axis=1)
         assert ref.max() > 20
         np.testing.assert_allclose(fast[f"bur:{rad:g}"], ref, rtol=0, atol=1e-9)
+
+
+@pytest.mark.parametrize("width", [1.0, 0.0])
+def test_contact_density_numba_equals_numpy(ens, monkeypatch, width):
+    pytest.importorskip("numba")
+    tg = find_targets(ens)
+    t = np.concatenate([tg.atom_index[np.isin(tg.nucleus, ["CB", "C", "N", "H"])], [-1]])
+    e = ens.select_models(range(ens.n_models))
+    e.coords = e.coords.copy()
+    e.coords[0, t[3]] = np.nan                     # a target absent from one model
+    e.coords[1, 7] = (900.0, -400.0, 250.0)        # an outlier far from the rest
+    out = {}
+    for flag in ("0", "1"):
+        monkeypatch.setenv("SHIFTCHECK_NUMBA", flag)
+        out[flag] = contact_density(e, t, (5.0, 8.0, 10.0), width, 1)
+    for k in out["0"]:
+        assert out["0"][k].max() > 10 and out["0"][k][:, -1].max() == 0
+        np.testing.assert_allclose(out["1"][k], out["0"][k], rtol=0, atol=1e-9, err_msg=k)
+
+
+def test_anisotropy_numba_equals_numpy(ens, monkeypatch):
+    """The compiled peptide-group dipole sums equal the numpy pair-list path (1e-9 Å⁻³)."""
+    pytest.importorskip("numba")
+    from shiftcheck.predict.anisotropy import anisotropy_features
+
+    tg = find_targets(ens)
+    t = np.concatenate([tg.atom_index[np.isin(tg.nucleus, ["H", "HA", "N"])], [-1]])
+    e = ens.select_models(range(ens.n_models))
+    e.coords = e.coords.copy()
+    e.coords[0, t[5]] = np.nan                     # a target absent from one model
+    out = {}
+    for flag in ("0", "1"):
+        monkeypatch.setenv("SHIFTCHECK_NUMBA", flag)
+        out[flag] = anisotropy_features(e, t)
+    for k in out["0"]:
+        assert np.abs(out["0"][k]).max() > 0.01 and out["0"][k][:, -1].max() == 0
+        np.testing.assert_allclose(out["1"][k], out["0"][k], rtol=0, atol=1e-9, err_msg=k)
+
+
+def test_numba_switch(monkeypatch):
+    """SHIFTCHECK_NUMBA=0 keeps the numpy path whatever the size; otherwise numba when installed."""
+    pytest.importorskip("numba")
+    from shiftcheck.predict import _fast
+
+    monkeypatch.setenv("SHIFTCHECK_NUMBA", "0")
+    assert not _fast.numba_enabled()
+    monkeypatch.delenv("SHIFTCHECK_NUMBA")
+    assert _fast.numba_enabled()

@@ -154,3 +154,34 @@ def test_ha_without_cb_follows_l_chirality(nmr_models):
     r = np.flatnonzero(ens.res_name != "GLY")
     d = np.linalg.norm(out.xyz(r, "HA") - nmr_models["1D3Z.pdb"].xyz(r, "HA"), axis=-1)
     assert np.nanmedian(d) < 0.1
+
+
+def test_hydrogens_built_on_a_stack_equal_one_by_one(realdata):
+    """add_hydrogens_many on the files of a decoy set (the 20 models of 2K5P without their
+    protons, as 20 one-model ensembles, one with a chain break, and a protein in between)
+    equals add_hydrogens ensemble by ensemble: atoms, names, flags, coordinates, warnings."""
+    import dataclasses
+
+    from shiftcheck.structure.hydrogens import add_hydrogens, add_hydrogens_many
+
+    a = read_models([realdata / "this" / "2k5p.pdb"], build_hydrogens=False)[0]
+    heavy = np.flatnonzero(a.element != "H")
+    a = dataclasses.replace(a, atom_res=a.atom_res[heavy], atom_name=a.atom_name[heavy],
+                            element=a.element[heavy], built=a.built[heavy], coords=a.coords[:, heavy],
+                            _index=None)
+    singles = [dataclasses.replace(a.select_models([i]), name=f"m{i}", model_names=[f"m{i}"])
+               for i in range(a.n_models)]
+    broken = singles[7].coords.copy()
+    broken[0, a.indices(np.array([20]), "C")] += 3.0           # C(20)-N(21) > 2 A: no H on 21
+    singles[7] = dataclasses.replace(singles[7], coords=broken)
+    u = read_models([realdata / "ubiquitin" / "1D3Z.pdb"], build_hydrogens=False)[0]
+    ens = singles[:10] + [u] + singles[10:]
+    many = add_hydrogens_many(ens)
+    assert len(many) == len(ens) and many[0].built.sum() > 400
+    for e, p in zip(ens, many):
+        q = add_hydrogens(e)
+        assert p.name == q.name and p.model_names == q.model_names and p.warnings == q.warnings
+        for f in ("atom_res", "atom_name", "element", "built"):
+            assert np.array_equal(getattr(p, f), getattr(q, f)), f
+        assert np.array_equal(p.coords, q.coords, equal_nan=True)
+    assert many[7].n_atoms < many[8].n_atoms                     # the break costs model 7 its H

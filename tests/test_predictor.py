@@ -190,3 +190,37 @@ def test_predictor_follows_the_estimator_convention(realdata, tmp_path):
     a, b = est.predict(ens), shipped.predict(ens)
     ca = a.nucleus == "CA"
     assert np.all(np.isfinite(a.values[:, ca])) and not np.allclose(a.values[:, ca], b.values[:, ca])
+
+
+@pytest.mark.parametrize("engine", ["0", "1"])
+def test_predict_many_stacks_same_topology_files_with_equal_results(realdata, engine, monkeypatch):
+    """Files of one decoy set (here the 20 models of 2K5P as 20 one-model ensembles, with
+    ubiquitin 1D3Z in between) predicted as stacks equal one-by-one predictions exactly (no
+    number depends on the other models of a stack), names and shapes included; numpy path
+    (SHIFTCHECK_NUMBA=0) and compiled path."""
+    if engine == "1":
+        pytest.importorskip("numba")
+    monkeypatch.setenv("SHIFTCHECK_NUMBA", engine)
+    import dataclasses
+
+    from shiftcheck.io.coords import read_models
+    from shiftcheck.predict.model import Predictor
+    from shiftcheck.structure.ensemble import stack_compatible
+
+    a = read_models([realdata / "this" / "2k5p.pdb"])[0]
+    u = read_models([realdata / "ubiquitin" / "1D3Z.pdb"])[0].select_models([0, 1])
+    singles = [dataclasses.replace(a.select_models([i]), name=f"m{i}.pdb", model_names=[f"m{i}.pdb"])
+               for i in range(a.n_models)]
+    ens = singles[:12] + [u] + singles[12:]
+    assert stack_compatible(singles[0], singles[5]) and not stack_compatible(singles[0], u)
+    pred = Predictor()
+    many = pred.predict_many(ens, max_models=8)
+    assert len(many) == len(ens)
+    for e, p in zip(ens, many):
+        q = pred.predict(e)
+        assert p.ensemble_name == q.ensemble_name and p.model_names == q.model_names
+        assert np.array_equal(p.atom_id, q.atom_id) and np.array_equal(p.res_index, q.res_index)
+        assert np.array_equal(p.values, q.values, equal_nan=True)
+        for t in q.terms:
+            assert np.array_equal(p.terms[t], q.terms[t], equal_nan=True), t
+    assert np.isfinite(many[0].values).sum() > 500

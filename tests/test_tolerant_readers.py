@@ -147,3 +147,22 @@ def test_blank_chain_is_named_and_selectable(realdata):
     ens = read_model_file(p)
     assert ens.chain_id == "" and sum("blank chain ID" in w for w in ens.warnings) == 1
     assert read_models(p, chain="", build_hydrogens=False)[0].n_residues == ens.n_residues
+
+
+def test_fast_tail_check_agrees_with_the_single_pattern(realdata):
+    """The two-step test (distinct tails checked once) finds exactly the lines the one-pass
+    pattern _BAD_LINE finds, on every public PDB file and on each malformed tail above."""
+    from shiftcheck.io import pdb_repair as pr
+
+    def fast_bad(text):
+        return sorted(t for t in set(pr._TAIL.findall(text)) if not pr._GOOD.match(t))
+
+    def slow_bad(text):
+        return sorted({m.group(0)[54:] for m in pr._BAD_LINE.finditer(text)})
+
+    texts = [p.read_text().replace("\r\n", "\n") for p in sorted(realdata.rglob("*.pdb"))]
+    texts += [LINE[:66] + t + "\n" for t in ("           N01", "       1SG 102", "           Q9 ")]
+    texts += [LINE[:54] + ob + LINE[66:] + "\n" for ob in ("  x.xx108.73", "  1.00abcdef")]
+    assert len(texts) > 20 and any(slow_bad(t) for t in texts)
+    for t in texts:
+        assert fast_bad(t) == slow_bad(t)

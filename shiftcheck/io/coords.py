@@ -13,6 +13,7 @@ with NaN coordinates where an atom is absent.
 """
 from __future__ import annotations
 
+import copy
 import os
 import re
 from typing import Sequence
@@ -24,6 +25,7 @@ from ..chem.residues import AA20, HEAVY_ATOMS
 from ..errors import InputError, ShiftcheckError
 from ..structure.ensemble import Ensemble
 from ._coord_notes import note_dropped, note_missing
+from ._flat import flat_models
 from .pdb_repair import repair_pdb_columns
 from .textfile import read_text_file
 
@@ -67,14 +69,11 @@ def read_models(paths: str | os.PathLike | Sequence[str | os.PathLike], chain: s
     """
     if isinstance(paths, (str, os.PathLike)):
         paths = [paths]
-    out = []
-    for p in paths:
-        ens = read_model_file(p, chain=chain)
-        if build_hydrogens:
-            from ..structure.hydrogens import add_hydrogens
+    out = [read_model_file(p, chain=chain) for p in paths]
+    if build_hydrogens:               # files of one topology built as one stack (same result)
+        from ..structure.hydrogens import add_hydrogens_many
 
-            ens = add_hydrogens(ens)
-        out.append(ens)
+        out = add_hydrogens_many(out)
     return out
 
 
@@ -270,24 +269,46 @@ def _extract(model, chain_id: str, notes: dict) -> tuple[list, list, list]:
     return res_keys, atom_keys, raw
 
 
+#: Topologies of first models read before, by (chain, flat signature): residue keys, atom keys,
+#: raw indices and notes. The files of a decoy set share one, so each later file skips the
+#: per-atom walk of :func:`_extract` (filled only after the flat arrays were checked).
+_KNOWN: dict = {}
+
+
 def _to_ensemble(st, path: str, chain: str | None) -> Ensemble:
     warnings: list[str] = []
     chain_id = _choose_chain(st[0], chain, path, warnings)
     base = os.path.basename(path)
     notes: dict = {}
     per_model = []
-    first_sig = first = None
-    for model in st:
-        sig = _signature(model, chain_id) if first is not None else None
+    first_sig = first = flat = None     # flat: all models as arrays (io/_flat.py), once checked
+    fm = flat_models(st, chain_id)
+    for mi, model in enumerate(st):
+        sig = None if first is None else (flat.signature(mi, model) if flat else _signature(model, chain_id))
         if first is not None and sig == first_sig:          # same topology: coordinates only
             rk, ak, raw = first
         else:
-            rk, ak, raw = _extract(model, chain_id, notes)
+            key = (chain_id, fm.signature(mi, model)) if (first is None and fm is not None) else None
+            known = _KNOWN.get(key) if key is not None else None
+            if known is not None:                           # a file of this topology was read before
+                rk, ak, raw = known[:3]
+                notes.update(copy.deepcopy(known[3]))
+                flat = fm
+            else:
+                rk, ak, raw = _extract(model, chain_id, notes)
             if first is None and rk:
                 first = (rk, ak, raw)
-                first_sig = None if notes.get("altloc") else _signature(model, chain_id)
+                if (known is None and fm is not None and not notes.get("altloc")
+                        and np.array_equal(fm.positions(mi), _positions(model, chain_id))):
+                    flat = fm
+                    if len(_KNOWN) >= 64:
+                        _KNOWN.clear()
+                    _KNOWN[key] = (rk, ak, raw, copy.deepcopy(notes))
+                first_sig = (None if notes.get("altloc") else
+                             flat.signature(mi, model) if flat else _signature(model, chain_id))
         if rk:
-            xyz = _positions(model, chain_id)[np.asarray(raw, dtype=np.int64)]
+            pos = flat.positions(mi) if flat else _positions(model, chain_id)
+            xyz = pos[np.asarray(raw, dtype=np.int64)]
             per_model.append((str(model.num), rk, ak, xyz))
     if not per_model:
         raise InputError(f"chain {chain_id!r} has no protein residues", path=path)

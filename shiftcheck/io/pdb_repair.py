@@ -10,7 +10,7 @@ gemmi refuse the whole file.
 :func:`repair_pdb_columns` finds the ATOM/HETATM lines whose columns 55-80 do not follow the
 PDB format (wwPDB, "Protein Data Bank Contents Guide: Atomic Coordinate Entry Format
 Description", version 3.3, section ATOM) with one regular-expression pass (no Python loop
-over good lines), and rewrites only those columns:
+over good lines; each distinct tail is checked once), and rewrites only those columns:
 
 * charge (79-80) not ``  ``, ``1+``, ``2-`` ... -> blank;
 * element (77-78) not an element symbol -> blank (gemmi then takes it from the atom name);
@@ -41,6 +41,11 @@ _N6 = r"[ 0-9.+-]"
 _GOOD_TAIL = (rf"(?:{_N6}{{0,6}}[ \t]*$|{_N6}{{6}}(?:{_N6}{{0,6}}[ \t]*$|{_N6}{{6}}"
               rf"(?:.{{0,10}}$|.{{10}}(?:[ \t]*$|(?:{_EL})(?:[ \t]*$|(?:{_CH})[ \t]*$)|[A-Za-z][ \t]*$))))")
 _BAD_LINE = re.compile(rf"^(?:ATOM  |HETATM)(?=.{{48}})(?!.{{48}}{_GOOD_TAIL}).*$", re.M | re.I)
+# the same test in two cheap steps: collect the tails (col 55 on) with a simple pattern, then
+# check each distinct tail once (an NMR ensemble repeats a few thousand tails over all models)
+_TAIL = re.compile(r"^(?:ATOM  |HETATM).{48}(.*)", re.M | re.I)
+_GOOD = re.compile(_GOOD_TAIL, re.I)
+_SEEN_GOOD: set[str] = set()       # good tails met before (the files of a decoy set repeat them)
 _FLOAT = re.compile(r"^ *[-+]?(?:\d+\.?\d*|\.\d+) *$| *$")
 _CHARGE = re.compile(rf"^(?:{_CH})$")
 
@@ -91,8 +96,11 @@ def repair_pdb_columns(text: str) -> tuple[str, list[str]]:
         object, when nothing needed repair) and one note per kind of repair, e.g.
         ``"line 3: charge column (79-80) is not a charge: ignored ('01', 2 lines)"``.
     """
-    first = _BAD_LINE.search(text)
-    if first is None:
+    tails = set(_TAIL.findall(text)) - _SEEN_GOOD      # tails checked in earlier files are good
+    if all(_GOOD.match(t) for t in tails):
+        if len(_SEEN_GOOD) + len(tails) > 200_000:
+            _SEEN_GOOD.clear()
+        _SEEN_GOOD.update(tails)
         return text, []
     found: dict[str, list] = {}
     # line numbers: count newlines incrementally between bad lines

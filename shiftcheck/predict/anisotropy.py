@@ -24,6 +24,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from ..datafiles import load_data, values
+from ._fast import axial_dipole_kernel, numba_enabled
 from .ringcurrent import point_dipole
 from .rings import pairs_within
 
@@ -86,6 +87,11 @@ def anisotropy_features(ens: Ensemble, targets: np.ndarray, cutoff: float | None
     t_res = np.full(n_t, -10, dtype=np.int64)
     t_res[have] = np.asarray(ens.atom_res)[targets[have]]
     origin, x, z, gres = peptide_frames(ens)
+    if numba_enabled():   # compiled (optional numba); below: the reference
+        with np.errstate(invalid="ignore", divide="ignore"):
+            axes = np.stack([a / np.linalg.norm(a, axis=-1, keepdims=True) for a in (x, z)])
+        val = axial_dipole_kernel(tx, t_res, origin, axes, gres, rc)
+        return {"co_aniso_x": val[0], "co_aniso_z": val[1]}
     m, it, jg, _ = pairs_within(tx, origin, rc)
     keep = (gres[jg] != t_res[it]) & (gres[jg] != t_res[it] - 1)
     m, it, jg = m[keep], it[keep], jg[keep]

@@ -26,6 +26,9 @@ Half-sphere exposure (Hamelryck 2005, Proteins 59:38 — from memory)
     (coefficients below, common practice, from memory). Every target atom of residue i gets its
     residue's values.
 
+With numba installed the contact-density sum runs as a compiled cell-list loop
+(:mod:`shiftcheck.predict._fast`); the numpy code here is the reference it is tested against.
+
 Units: counts (dimensionless). Constants (radii, switch width) are in
 ``shiftcheck/data/calibration.json`` → ``burial`` and are copied into parameter files.
 """
@@ -35,6 +38,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from ._fast import contact_density_kernel, numba_enabled
 from .rings import pairs_within
 
 if TYPE_CHECKING:
@@ -109,6 +113,10 @@ def contact_density(ens: Ensemble, targets, radii=(6.0, 8.0, 10.0), width: float
     heavy = np.flatnonzero(np.asarray(ens.element).astype(str) != "H")
     h_res = np.asarray(ens.atom_res)[heavy]
     cutoff = float(max(radii)) + max(width, 0.0)
+    if numba_enabled():   # compiled (optional numba); below: the reference
+        val = contact_density_kernel(tx, t_res, ens.coords[:, heavy], h_res,
+                                     np.asarray(radii, float), float(width), exclude, cutoff)
+        return {f"bur:{float(rad):g}": val[k] for k, rad in enumerate(radii)}
     m, it, jh, dist = pairs_within(tx, ens.coords[:, heavy], cutoff)
     keep = np.abs(h_res[jh] - t_res[it]) > exclude
     flat = (m * n_t + it)[keep]

@@ -75,6 +75,8 @@ def hbond_contacts(ens: Ensemble, cutoff: float | None = None) -> dict[str, np.n
     d_res = ares[donors][i]
     keep = (acc_res[j] != d_res) & ~(acc_bb[j] & (acc_res[j] == d_res - 1))
     m, i, j = m[keep], i[keep], j[keep]
+    order = np.lexsort((j, i, m))      # (model, donor, acceptor): sums independent of the stacking
+    m, i, j = m[order], i[order], j[order]
     h = xyz[m, donors[i]]
     o = xyz[m, acc[j]]
     pidx = parents[i]

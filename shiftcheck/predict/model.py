@@ -12,6 +12,7 @@ factors, hydrogen-bond terms, peptide-group anisotropy). The coefficients w come
 """
 from __future__ import annotations
 
+import dataclasses
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -144,6 +145,40 @@ class Predictor:
                           atom_id=t.atom_id.astype(str), nucleus=t.nucleus.astype(str),
                           values=values, terms=terms,
                           params_source=str(p.get("_path", "<dict>")) + f" [{self.ring_model_}]")
+
+    def predict_many(self, ensembles, conditions=None, max_models: int = 1024) -> list[Prediction]:
+        """Predictions of several ensembles, equal to ``[predict(e) for e in ensembles]``
+        (exactly: no computed number depends on the other models of a stack): runs of consecutive stack-compatible ensembles
+        (:func:`shiftcheck.structure.ensemble.stack_compatible` — the files of one decoy set)
+        are predicted as one model stack of at most ``max_models`` models and split again, so
+        the per-topology work (targets, random-coil table, design-matrix layout, ring and
+        hydrogen-bond partners) is done once per run instead of once per file."""
+        from ..structure.ensemble import stack_compatible, stack_ensembles
+
+        ensembles = list(ensembles)
+        out: list[Prediction] = []
+        k = 0
+        while k < len(ensembles):
+            group, n = [ensembles[k]], ensembles[k].n_models
+            while (k + len(group) < len(ensembles) and n + ensembles[k + len(group)].n_models <= max_models
+                   and stack_compatible(group[0], ensembles[k + len(group)])):
+                n += ensembles[k + len(group)].n_models
+                group.append(ensembles[k + len(group)])
+            k += len(group)
+            if len(group) == 1:
+                out.append(self.predict(group[0], conditions))
+                continue
+            p = self.predict(stack_ensembles(group), conditions)
+            a = 0
+            for e in group:
+                b = a + e.n_models
+                out.append(dataclasses.replace(p, ensemble_name=e.name, model_names=list(e.model_names),
+                                               res_index=p.res_index.copy(), res_seq=p.res_seq.copy(),
+                                               comp_id=p.comp_id.copy(), atom_id=p.atom_id.copy(),
+                                               nucleus=p.nucleus.copy(), values=p.values[a:b].copy(),
+                                               terms={t: v[a:b].copy() for t, v in p.terms.items()}))
+                a = b
+        return out
 
 
 def predict(ens: Ensemble, params=None, ring_model: str | None = None, conditions=None) -> Prediction:

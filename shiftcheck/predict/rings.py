@@ -158,7 +158,9 @@ def pairs_within(a: np.ndarray, b: np.ndarray, cutoff: float
 
     Returns
     -------
-    model, i, j : int arrays, shape (n_pairs,) ; dist : float array (Å), shape (n_pairs,)
+    model, i, j : int arrays, shape (n_pairs,), in (model, i, j) order ; dist : float array (Å),
+    shape (n_pairs,), computed from the unshifted coordinates — so the pairs and distances of a
+    model do not depend on the other models in the stack.
     """
     a = np.asarray(a, dtype=float)
     b = np.asarray(b, dtype=float)
@@ -177,8 +179,25 @@ def pairs_within(a: np.ndarray, b: np.ndarray, cutoff: float
     pb = b[mb, jb].copy()
     pa[:, 0] += ma * span
     pb[:, 0] += mb * span
-    res = cKDTree(pa).sparse_distance_matrix(cKDTree(pb), cutoff, output_type="ndarray")
-    if n_models and res.size:   # the offsets keep models apart: points |x| >= span - extent > cutoff
-        u, v = res["i"], res["j"]
-        return ma[u], ia[u], jb[v], res["v"]
-    return empty
+    # a little beyond the cutoff: the shifted coordinates round differently from the originals
+    res = cKDTree(pa).sparse_distance_matrix(cKDTree(pb), cutoff * (1 + 1e-9) + 1e-9, output_type="ndarray")
+    if not (n_models and res.size):   # the offsets keep models apart: |x| >= span - extent > cutoff
+        return empty
+    # (model, i, j) order and distances from the unshifted coordinates, so that every result
+    # is the same whichever other models share the stack (batching must not change a number)
+    n_a, n_b = a.shape[1], b.shape[1]
+    fa = ma * n_a + ia                      # flat (model, i) of every finite point of a
+    key = fa[res["i"]] * n_b + jb[res["j"]]
+    key.sort()
+    fa, j = np.divmod(key, n_b)
+    m = fa // n_a
+    fb = m * n_b + j
+    d2 = np.zeros(key.size)
+    for k in range(3):                      # one coordinate at a time: 1-D gathers are fast
+        dk = np.ascontiguousarray(a[..., k]).ravel()[fa] - np.ascontiguousarray(b[..., k]).ravel()[fb]
+        d2 += dk * dk
+    dist = np.sqrt(d2)
+    keep = dist <= cutoff
+    if not keep.all():
+        fa, m, j, dist = fa[keep], m[keep], j[keep], dist[keep]
+    return m, fa - m * n_a, j, dist

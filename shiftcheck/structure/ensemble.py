@@ -10,7 +10,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-__all__ = ["Ensemble"]
+__all__ = ["Ensemble", "stack_compatible", "stack_ensembles"]
+
+_SHARED: dict = {}     # topology (residue count, atom residues, atom names) -> name lookups
 
 
 @dataclass
@@ -78,11 +80,25 @@ class Ensemble:
 
         return "".join(THREE_TO_ONE.get(str(r), "X") for r in self.res_name)
 
-    def _lookup(self) -> dict:
+    def _cache(self) -> dict:
+        """Name lookups of this topology; shared by all ensembles with the same residues and
+        atom names (the files of a decoy set, the copies made while building protons)."""
         if self._index is None:
-            self._index = {(int(r), str(a)): i for i, (r, a) in
-                           enumerate(zip(self.atom_res, self.atom_name))}
+            names = np.asarray(self.atom_name)
+            key = (self.n_residues, np.asarray(self.atom_res, dtype=np.int64).tobytes(),
+                   (names if names.dtype.kind == "U" else names.astype(str)).astype("U8").tobytes())
+            if key not in _SHARED:
+                if len(_SHARED) >= 32:
+                    _SHARED.clear()
+                _SHARED[key] = {}
+            self._index = _SHARED[key]
         return self._index
+
+    def _lookup(self) -> dict:
+        c = self._cache()
+        if "atoms" not in c:
+            c["atoms"] = {(int(r), str(a)): i for i, (r, a) in enumerate(zip(self.atom_res, self.atom_name))}
+        return c["atoms"]
 
     def index(self, res_index: int, atom_name: str) -> int:
         """Atom index of ``atom_name`` in residue ``res_index`` (0-based), or -1."""
@@ -95,10 +111,29 @@ class Ensemble:
         Residue indices outside the chain give -1.
         """
         res_index = np.asarray(res_index)
+        if res_index.dtype.kind not in "iu":
+            res_index = res_index.astype(np.int64)
+        if isinstance(atom_name, str) or np.ndim(atom_name) == 0:
+            return self._take(str(atom_name), res_index)
         names = np.broadcast_to(np.asarray(atom_name, dtype=object), res_index.shape)
-        look = self._lookup()
-        return np.fromiter((look.get((int(r), str(a)), -1) for r, a in zip(res_index, names)),
-                           dtype=np.int64, count=res_index.size).reshape(res_index.shape)
+        out = np.full(res_index.shape, -1, dtype=np.int64)
+        for nm in set(names.ravel().tolist()):
+            sel = names == nm
+            out[sel] = self._take(str(nm), res_index[sel])
+        return out
+
+    def _take(self, name: str, res_index: np.ndarray) -> np.ndarray:
+        """Atom index of ``name`` in each residue of ``res_index`` via a per-name table
+        (n_res,) built once per ensemble (one comparison over the atom names)."""
+        tables = self._cache().setdefault("tables", {})
+        tab = tables.get(name)
+        if tab is None:
+            tab = np.full(self.n_residues + 1, -1, dtype=np.int64)     # last entry: out of range
+            hit = np.flatnonzero(np.asarray(self.atom_name) == name)
+            tab[np.asarray(self.atom_res)[hit]] = hit
+            tables[name] = tab
+        r = np.where((res_index >= 0) & (res_index < self.n_residues), res_index, self.n_residues)
+        return tab[r].reshape(res_index.shape)
 
     def xyz(self, res_index: np.ndarray, atom_name: str | np.ndarray) -> np.ndarray:
         """Coordinates (n_models, len(res_index), 3) of the named atoms, NaN where absent."""
@@ -120,3 +155,33 @@ class Ensemble:
         return dataclasses.replace(self, coords=self.coords[which],
                                    model_names=[self.model_names[i] for i in which],
                                    warnings=list(self.warnings), _index=None)
+
+
+def stack_compatible(a: Ensemble, b: Ensemble) -> bool:
+    """True when ``b`` has the topology of ``a`` (chain, residues, atom names, elements, built
+    flags) and the same atoms present in at least one model, so that stacking their models
+    changes nothing an ensemble-wide step derives from the topology."""
+    if a is b:
+        return True
+    if a.chain_id != b.chain_id or a.n_atoms != b.n_atoms or a.n_residues != b.n_residues:
+        return False
+    for f in ("res_seq", "res_icode", "res_name", "atom_res", "atom_name", "element", "built"):
+        if not np.array_equal(getattr(a, f), getattr(b, f)):
+            return False
+    return bool(np.array_equal(_present(a), _present(b)))
+
+
+def _present(ens: Ensemble) -> np.ndarray:
+    return ~np.all(np.isnan(ens.coords[..., 0]), axis=0)
+
+
+def stack_ensembles(ensembles: list[Ensemble]) -> Ensemble:
+    """One ensemble holding the models of several stack-compatible ones, in order (the first
+    one's name and topology; warnings of the first only)."""
+    import dataclasses
+
+    first = ensembles[0]
+    return dataclasses.replace(first, sources=[s for e in ensembles for s in e.sources],
+                               model_names=[m for e in ensembles for m in e.model_names],
+                               coords=np.concatenate([e.coords for e in ensembles]),
+                               warnings=list(first.warnings), _index=None)

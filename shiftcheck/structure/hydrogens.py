@@ -21,7 +21,7 @@ import numpy as np
 from ..datafiles import load_data
 from .ensemble import Ensemble
 
-__all__ = ["add_hydrogens", "geometry_parameters", "HYDROGEN_SITES"]
+__all__ = ["add_hydrogens", "add_hydrogens_many", "geometry_parameters", "HYDROGEN_SITES"]
 
 # --- site table (topology, IUPAC 1998 names) -------------------------------------------------
 # methine: (H, X, a, b, c); methylene: (H2, H3, X, a, b) with a the neighbour nearer the
@@ -243,3 +243,51 @@ def _merge(ens: Ensemble, new_res, new_name, new_xyz) -> Ensemble:
     warnings.append(f"built {add_res.size} hydrogen atoms from ideal geometry")
     return dataclasses.replace(ens, atom_res=atom_res[order], atom_name=atom_name, element=element,
                                built=built, coords=coords, warnings=warnings, _index=None)
+
+
+def add_hydrogens_many(ensembles: list[Ensemble]) -> list[Ensemble]:
+    """``[add_hydrogens(e) for e in ensembles]``, with runs of consecutive ensembles of one
+    topology and no missing coordinates (the files of a decoy set) built as one model stack.
+
+    A run is split back into its ensembles (own names, sources, warnings) only when every
+    built atom has coordinates in every model; otherwise (a chain break in one model, so a
+    proton one file would not get) its ensembles are built one by one, as alone.
+    """
+    from .ensemble import stack_compatible, stack_ensembles
+
+    out: list[Ensemble] = []
+    k = 0
+    while k < len(ensembles):
+        e = ensembles[k]
+        run = [e]
+        if np.isfinite(e.coords).all():
+            while (k + len(run) < len(ensembles) and len(run) < 256
+                   and np.isfinite(ensembles[k + len(run)].coords).all()
+                   and stack_compatible(e, ensembles[k + len(run)])):
+                run.append(ensembles[k + len(run)])
+        k += len(run)
+        if len(run) == 1:
+            out.append(add_hydrogens(e))
+            continue
+        big = add_hydrogens(stack_ensembles(run))
+        if not np.isfinite(big.coords[:, big.built & ~_was_built(big, e)]).all():
+            out.extend(add_hydrogens(x) for x in run)
+            continue
+        added = big.warnings[len(e.warnings):]
+        a = 0
+        for x in run:
+            b = a + x.n_models
+            out.append(dataclasses.replace(big, name=x.name, sources=list(x.sources),
+                                           model_names=list(x.model_names), coords=big.coords[a:b].copy(),
+                                           warnings=list(x.warnings) + added, method=x.method, _index=None))
+            a = b
+    return out
+
+
+def _was_built(big: Ensemble, before: Ensemble) -> np.ndarray:
+    """Atoms of ``big`` flagged built already in ``before`` (same atoms in the same order)."""
+    old = np.zeros(big.n_atoms, dtype=bool)
+    if before.built.any():
+        keys = {(int(r), str(n)) for r, n, b in zip(before.atom_res, before.atom_name, before.built) if b}
+        old = np.array([(int(r), str(n)) in keys for r, n in zip(big.atom_res, big.atom_name)])
+    return old

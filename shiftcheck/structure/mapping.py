@@ -19,6 +19,7 @@ residue.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import lru_cache
 
 import numpy as np
 
@@ -93,7 +94,9 @@ class Mapping:
         return "\n".join(lines)
 
 
+@lru_cache(maxsize=1)
 def _aligner():
+    """The global aligner with BLOSUM62, created once (loading the matrix costs milliseconds)."""
     from Bio.Align import PairwiseAligner, substitution_matrices
 
     al = PairwiseAligner()
@@ -110,6 +113,13 @@ def _aligner():
         al.target_end_gap_score = 0.0
         al.query_end_gap_score = 0.0
     return al
+
+
+@lru_cache(maxsize=64)
+def _best_alignment(seq: str, model_seq: str):
+    """First optimal global alignment; the same sequence pair (every file of a decoy set) is
+    aligned once."""
+    return _aligner().align(seq, model_seq)[0]
 
 
 def _shift_sequence(shifts: ShiftList) -> tuple[str, np.ndarray]:
@@ -164,7 +174,7 @@ def map_sequence(shifts: ShiftList, ens: Ensemble, min_identity: float = DEFAULT
     model_seq = ens.one_letter
     if not seq or not model_seq:
         raise MappingError("empty sequence: nothing to align", path=shifts.source)
-    aln = _aligner().align(seq, model_seq)[0]
+    aln = _best_alignment(seq, model_seq)
     pairs = [(i, j) for (a0, a1), (b0, b1) in zip(*aln.aligned) for i, j in zip(range(a0, a1), range(b0, b1))]
     n = len(pairs)
     known = [seq[i] != "X" and model_seq[j] != "X" for i, j in pairs]
