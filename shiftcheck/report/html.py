@@ -74,7 +74,7 @@ def write_html(outdir, show=(), max_point_models: int = MAX_POINT_MODELS) -> Pat
         The directory cannot be written.
     """
     outdir = Path(outdir)
-    text = render_html(load_outdir(outdir), show, max_point_models)
+    text = render_html(load_outdir(outdir, show, max_point_models), show, max_point_models)
     final = outdir / "report.html"
     from .atomic import atomic_write_text
 
