@@ -81,7 +81,12 @@ def run(shifts: Path, models, out: Path, jobs: int, report: bool = False) -> tup
     wall = time.perf_counter() - t
     if os.waitstatus_to_exitcode(status) != 0:
         sys.exit(err.read_text()[-2000:])
+    global LAST_CPU
+    LAST_CPU = usage.ru_utime + usage.ru_stime         # CPU of the child and its reaped workers
     return wall, usage.ru_maxrss / 1024.0
+
+
+LAST_CPU = 0.0
 
 
 def main(argv=None) -> None:
@@ -110,13 +115,15 @@ def main(argv=None) -> None:
                 wall, peak = run(shifts, models, tmp / f"out_{count}", a.jobs, a.report)
                 print(f"{count:6d} models, {kind:22s} --jobs {a.jobs}"
                       f"{' with report' if a.report else ' --no-report'}: peak RSS {peak:7.1f} MB "
-                      f"(largest process), {wall:7.1f} s, {count / wall:6.1f} models/s; "
+                      f"(largest process), {wall:7.1f} s ({LAST_CPU:.1f} s CPU), {count / wall:6.1f} models/s; "
                       f"load average {before} before, {load()} after", flush=True)
             else:
                 l0 = load()
                 w1, _ = run(shifts, models, tmp / f"out1_{count}", 1)
-                l1 = load()
+                c1, l1 = LAST_CPU, load()
                 w2, _ = run(shifts, models, tmp / f"out2_{count}", a.jobs)
+                print(f"CPU (user+sys, all processes): --jobs 1 {c1:.1f} s, --jobs {a.jobs} {LAST_CPU:.1f} s",
+                      flush=True)
                 print(f"load average: {l0} before --jobs 1, {l1} before --jobs {a.jobs}, {load()} after",
                       flush=True)
                 same = all((tmp / f"out1_{count}" / f).read_bytes() == (tmp / f"out2_{count}" / f).read_bytes()

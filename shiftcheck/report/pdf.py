@@ -79,7 +79,8 @@ def _tmp(directory: Path, suffix: str) -> Path:
     return Path(name)
 
 
-def write_report(outdir, formats=("png",), show=(), max_models: int = MAX_DRAWN_MODELS) -> list[Path]:
+def write_report(outdir, formats=("png",), show=(), max_models: int = MAX_DRAWN_MODELS,
+                 data: ReportData | None = None) -> list[Path]:
     """Draw the report of a score output directory.
 
     Parameters
@@ -94,6 +95,8 @@ def write_report(outdir, formats=("png",), show=(), max_models: int = MAX_DRAWN_
         With more models than this, the pages draw the best ``max_models``, the best group and
         ``show`` (only their residues.csv rows are read) and add a page of distributions over
         all models; the opening page says so.
+    data : ReportData, optional
+        ``load_outdir(outdir, show, max_models)`` already read (e.g. shared with report.html).
 
     Returns
     -------
@@ -111,7 +114,7 @@ def write_report(outdir, formats=("png",), show=(), max_models: int = MAX_DRAWN_
     bad = [f for f in formats if f not in PLOT_FORMATS]
     if bad:
         raise InputError(f"unknown plot format {bad[0]!r} (choose from {', '.join(PLOT_FORMATS)})")
-    data = load_outdir(outdir, show, max_models)
+    data = load_outdir(outdir, show, max_models) if data is None else data
     outdir = Path(outdir)
     figs = report_figures(data, show)
     plots = outdir / "plots"
