@@ -45,6 +45,12 @@ def clean(obj):
     if isinstance(obj, (list, tuple, set)):
         return [clean(v) for v in obj]
     if isinstance(obj, np.ndarray):
+        if obj.ndim == 1 and obj.dtype.kind in "fiub":       # fast path: whole numeric columns
+            out = obj.tolist()
+            if obj.dtype.kind == "f":
+                for i in np.flatnonzero(~np.isfinite(obj)).tolist():
+                    out[i] = None
+            return out
         return [clean(v) for v in obj.tolist()]
     if isinstance(obj, (bool, np.bool_)):
         return bool(obj)
@@ -109,8 +115,12 @@ def _sequence(data: ReportData, models: list[str]) -> dict:
     seq_ids = np.unique(res.seq_id)
     comp = {int(s): str(c) for s, c in zip(res.seq_id, res.comp_id)}
     grid = rms_by_residue(res.model, res.seq_id, res.z, models, seq_ids)
-    flagged = {m: sorted({int(s) for s in res.seq_id[(res.model == m) & (res.flag != "")]})
-               for m in models}
+    flagged = {m: set() for m in models}
+    hit = res.flag != ""
+    for m, s in zip(res.model[hit].tolist(), res.seq_id[hit].tolist()):   # one pass over the rows
+        if m in flagged:
+            flagged[m].add(int(s))
+    flagged = {m: sorted(v) for m, v in flagged.items()}
     best = res.model == data.best_model
     rows = res.select(best if best.any() else np.ones(len(res), bool))
     sseq, sval = secondary_shift_difference(rows.seq_id, rows.comp_id, rows.atom_id, rows.measured,
