@@ -8,6 +8,7 @@ processes it reaped (the peak of one process, not the sum over --jobs N processe
 
     PYTHONPATH=$PWD python benchmarks/bench_scale.py memory 1000 10000 --jobs 2
     PYTHONPATH=$PWD python benchmarks/bench_scale.py speedup 1000
+    PYTHONPATH=$PWD python benchmarks/bench_scale.py memory 10000 --only multi --report
 
 The machine is shared (2 cores): wall times are noisy; run when it is quiet.
 """
@@ -56,13 +57,19 @@ def build(tmp: Path, count: int, head: str, bodies: list[str]) -> tuple[Path, li
     return multi, files
 
 
-def run(shifts: Path, models, out: Path, jobs: int) -> tuple[float, float]:
+def load() -> str:
+    """The 1-minute load average (other sessions share the cores)."""
+    return f"{os.getloadavg()[0]:.2f}"
+
+
+def run(shifts: Path, models, out: Path, jobs: int, report: bool = False) -> tuple[float, float]:
     """Wall time (s) and peak RSS (MB, largest process) of one score run in a subprocess."""
     listing = out.with_suffix(".list")
+    extra = "" if report else "'--no-report', "
     cmd = [sys.executable, "-c",
            "import sys; from shiftcheck.cli import main; "
            "sys.exit(main(['score', sys.argv[1], *open(sys.argv[2]).read().split(), '-o', sys.argv[3], "
-           "'--no-report', '--quiet', '--force', '--jobs', sys.argv[4]]))",
+           f"{extra}'--quiet', '--force', '--jobs', sys.argv[4]]))",
            str(shifts), str(listing), str(out), str(jobs)]
     listing.write_text("\n".join(str(m) for m in models))
     t = time.perf_counter()
@@ -74,7 +81,12 @@ def run(shifts: Path, models, out: Path, jobs: int) -> tuple[float, float]:
     wall = time.perf_counter() - t
     if os.waitstatus_to_exitcode(status) != 0:
         sys.exit(err.read_text()[-2000:])
+    global LAST_CPU
+    LAST_CPU = usage.ru_utime + usage.ru_stime         # CPU of the child and its reaped workers
     return wall, usage.ru_maxrss / 1024.0
+
+
+LAST_CPU = 0.0
 
 
 def main(argv=None) -> None:
@@ -84,6 +96,7 @@ def main(argv=None) -> None:
     ap.add_argument("--jobs", type=int, default=2)
     ap.add_argument("--tmp", default=None, help="folder for the generated models (default: a temp dir)")
     ap.add_argument("--only", choices=["multi", "files"], default=None)
+    ap.add_argument("--report", action="store_true", help="also write the report (PDF, plots, HTML)")
     a = ap.parse_args(argv)
     data = realdata_root() / "this"
     shifts = data / "2k5p_shifts.str"
@@ -98,12 +111,21 @@ def main(argv=None) -> None:
             kinds = [kinds[0]] if a.only == "multi" else [kinds[1]]
         for kind, models in kinds:
             if a.what == "memory":
-                wall, peak = run(shifts, models, tmp / f"out_{count}", a.jobs)
-                print(f"{count:6d} models, {kind:22s} --jobs {a.jobs}: peak RSS {peak:7.1f} MB "
-                      f"(largest process), {wall:7.1f} s, {count / wall:6.1f} models/s", flush=True)
+                before = load()
+                wall, peak = run(shifts, models, tmp / f"out_{count}", a.jobs, a.report)
+                print(f"{count:6d} models, {kind:22s} --jobs {a.jobs}"
+                      f"{' with report' if a.report else ' --no-report'}: peak RSS {peak:7.1f} MB "
+                      f"(largest process), {wall:7.1f} s ({LAST_CPU:.1f} s CPU), {count / wall:6.1f} models/s; "
+                      f"load average {before} before, {load()} after", flush=True)
             else:
+                l0 = load()
                 w1, _ = run(shifts, models, tmp / f"out1_{count}", 1)
+                c1, l1 = LAST_CPU, load()
                 w2, _ = run(shifts, models, tmp / f"out2_{count}", a.jobs)
+                print(f"CPU (user+sys, all processes): --jobs 1 {c1:.1f} s, --jobs {a.jobs} {LAST_CPU:.1f} s",
+                      flush=True)
+                print(f"load average: {l0} before --jobs 1, {l1} before --jobs {a.jobs}, {load()} after",
+                      flush=True)
                 same = all((tmp / f"out1_{count}" / f).read_bytes() == (tmp / f"out2_{count}" / f).read_bytes()
                            for f in ("ranking.csv", "residues.csv"))
                 print(f"{count:6d} models, {kind:22s}: --jobs 1 {w1:7.1f} s, --jobs {a.jobs} {w2:7.1f} s, "

@@ -17,7 +17,6 @@ mappings and residue tables are shared). See docs/scaling.md for the measured fi
 """
 from __future__ import annotations
 
-import mmap
 import os
 import tempfile
 from collections.abc import Callable, Iterable
@@ -111,28 +110,47 @@ class TaskResult:
     geometry: list = field(default_factory=list)      # structure.quality records, one per model
 
 
-def _model_spans(path: str) -> list[tuple[int, int]]:
+_SCAN_CHUNK = 1 << 22     # bytes read at a time when a file is scanned for MODEL records
+
+
+def _find_all(fh, needle: bytes, start: int = 0, first_only: bool = False,
+              chunk: int = _SCAN_CHUNK) -> list[int]:
+    """Offsets of ``needle`` in the file from ``start`` on, read in chunks (plain reads, not a
+    memory map: the scan of a 1 GB file must not make its pages resident in this process)."""
+    fh.seek(start)
+    found, tail, offset = [], b"", start
+    keep = len(needle) - 1
+    while True:
+        buf = fh.read(chunk)
+        if not buf:
+            return found
+        data = tail + buf
+        base = offset - len(tail)
+        i = data.find(needle)
+        while i >= 0:
+            found.append(base + i)
+            if first_only:
+                return found
+            i = data.find(needle, i + 1)
+        tail = data[-keep:] if keep else b""
+        offset += len(buf)
+
+
+def _model_spans(path: str, chunk: int = _SCAN_CHUNK) -> list[tuple[int, int]]:
     """Byte ranges of the MODEL ... ENDMDL records of a plain-text PDB file ([] if none)."""
-    spans = []
     with open(path, "rb") as fh:
-        try:
-            mm = mmap.mmap(fh.fileno(), 0, access=mmap.ACCESS_READ)
-        except ValueError:                 # empty file
+        head = fh.read(4096)
+        if not head or head.lstrip().lower().startswith(b"data_"):
+            return []                      # empty file, or mmCIF: read whole
+        starts = ([0] if head[:6] == b"MODEL " else []) + [
+            i + 1 for i in _find_all(fh, b"\nMODEL ", 0, chunk=chunk)]
+        if not starts:
             return []
-        with mm:
-            if mm[:4096].lstrip().lower().startswith(b"data_"):
-                return []                  # mmCIF: read whole
-            pos = 0 if mm[:6] == b"MODEL " else mm.find(b"\nMODEL ") + 1
-            while pos > 0 or (pos == 0 and mm[:6] == b"MODEL "):
-                nxt = mm.find(b"\nMODEL ", pos + 1)
-                spans.append((pos, nxt + 1 if nxt >= 0 else -1))
-                if nxt < 0:
-                    break
-                pos = nxt + 1
-            if spans and spans[-1][1] == -1:
-                end = mm.find(b"\nENDMDL", spans[-1][0])
-                stop = mm.find(b"\n", end + 1) + 1 if end >= 0 else len(mm)
-                spans[-1] = (spans[-1][0], stop if stop > 0 else len(mm))
+        size = os.fstat(fh.fileno()).st_size
+        spans = list(zip(starts[:-1], starts[1:]))
+        end = _find_all(fh, b"\nENDMDL", starts[-1], first_only=True, chunk=chunk)
+        stop = _find_all(fh, b"\n", end[0] + 1, first_only=True, chunk=chunk) if end else []
+        spans.append((starts[-1], stop[0] + 1 if stop else size))
     return spans
 
 

@@ -82,6 +82,29 @@ def test_multi_model_file_is_split_at_its_model_records(sets):
     assert plan_tasks([sets["multi"]], models_per_task=40)[0].body is None   # small: read whole
 
 
+@pytest.mark.parametrize("text", [
+    b"HEADER x\nMODEL        1\nATOM a\nENDMDL\nMODEL        2\nATOM b\nENDMDL\nEND\n",
+    b"MODEL        1\nATOM a\nENDMDL\nMODEL        2\nATOM b\nENDMDL",      # no header, no final newline
+    b"HEADER x\nMODEL 1\nATOM a\n",                                          # no ENDMDL
+    b"HEADER x\nATOM a\nEND\n", b""])
+def test_model_records_found_across_read_chunks(tmp_path, text):
+    """The chunked scan finds the MODEL records a whole-text search finds, whatever the chunk
+    size (common practice, no source: the reference is a plain search of the whole text)."""
+    from shiftcheck.stream import _model_spans
+
+    p = tmp_path / "m.pdb"
+    p.write_bytes(text)
+    starts = ([0] if text.startswith(b"MODEL ") else []) + [
+        i + 1 for i in range(len(text)) if text.startswith(b"\nMODEL ", i)]
+    want = list(zip(starts[:-1], starts[1:]))
+    if starts:
+        end = text.find(b"\nENDMDL", starts[-1])
+        stop = text.find(b"\n", end + 1) + 1 if end >= 0 else len(text)
+        want.append((starts[-1], stop if stop > 0 else len(text)))
+    for chunk in (1, 2, 5, 7, 8, 13, 1 << 20):
+        assert _model_spans(str(p), chunk=chunk) == want, chunk
+
+
 def test_streamed_multi_model_file_equals_in_memory(sets):
     ref = _in_memory(sets["shifts"], [sets["multi"]])
     got = score_files(sets["shifts"], [sets["multi"]], models_per_task=3)

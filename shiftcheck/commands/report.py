@@ -22,12 +22,14 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
 
 
 def run(args) -> int:
+    from ..report.html import write_html
+    from ..report.load import load_outdir
     from ..report.pdf import write_report
 
-    written = write_report(args.outdir, formats=tuple(args.plots.split(",")), show=tuple(args.show))
-    from ..report.html import write_html
-
-    page = write_html(args.outdir, show=tuple(args.show))
+    data = load_outdir(args.outdir, tuple(args.show))   # read once for the PDF and the page
+    written = write_report(args.outdir, formats=tuple(args.plots.split(",")), show=tuple(args.show),
+                           data=data)
+    page = write_html(args.outdir, show=tuple(args.show), data=data)
     n_plots = len(written) - 1
     print(f"wrote {written[0]} and {n_plots} plot file{'s' if n_plots != 1 else ''} in "
           f"{written[0].parent / 'plots'}; interactive page {page}")

@@ -166,8 +166,10 @@ def write_outputs(res: ScoreResult, outdir: str, *, force: bool, inputs: list, r
         write_corrected_star(res, tmp)                   # only when an offset was applied
         if report:
             from ..report.html import write_html
+            from ..report.load import load_outdir
             from ..report.pdf import write_report
 
             formats = tuple(f.strip().lower() for f in plots.split(",") if f.strip())
-            write_report(tmp, formats=formats, show=show)
-            write_html(tmp, show=show)
+            data = load_outdir(tmp, show)                # read once for the PDF and the page
+            write_report(tmp, formats=formats, show=show, data=data)
+            write_html(tmp, show=show, data=data)

@@ -246,7 +246,8 @@ def referencing_figure(data: ReportData) -> Figure:
         fig = _new(st.A4_LANDSCAPE)
         res = data.residues
         classes = nuclei_with_data(data)
-        fig.suptitle("Referencing: measured - predicted, all models pooled", x=0.04, ha="left",
+        pooled = "all models" if data.drawn is None else f"the {len(data.drawn)} models drawn"
+        fig.suptitle(f"Referencing: measured - predicted, {pooled} pooled", x=0.04, ha="left",
                      fontsize=st.TITLE, y=0.96)
         if not classes:
             fig.text(0.5, 0.5, "no residuals in residues.csv", ha="center")
@@ -280,7 +281,7 @@ def referencing_figure(data: ReportData) -> Figure:
             else:
                 ax.set_title(f"{x}: no {iso} offset\nin summary.json", loc="left", fontsize=8.5)
             ax.set_xlabel("measured - predicted (ppm)")
-            ax.set_ylabel("atoms (all models)")
+            ax.set_ylabel(f"atoms ({'all' if data.drawn is None else 'drawn'} models)")
             ax.tick_params(labelsize=7)
         handles = [Rectangle((0, 0), 1, 1, fc="none", ec="black", label="before the offset"),
                    Rectangle((0, 0), 1, 1, fc=st.NEUTRAL_LIGHT, label="after the offset (class colour)")]

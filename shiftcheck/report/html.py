@@ -49,7 +49,8 @@ def _escape(text: str) -> str:
             .replace('"', "&quot;"))
 
 
-def write_html(outdir, show=(), max_point_models: int = MAX_POINT_MODELS) -> Path:
+def write_html(outdir, show=(), max_point_models: int = MAX_POINT_MODELS,
+               data: ReportData | None = None) -> Path:
     """Write OUTDIR/report.html from the files of a score output directory.
 
     Parameters
@@ -60,6 +61,8 @@ def write_html(outdir, show=(), max_point_models: int = MAX_POINT_MODELS) -> Pat
         Models whose points are embedded whatever their rank.
     max_point_models : int
         How many of the best models get their residues.csv points embedded.
+    data : ReportData, optional
+        ``load_outdir(outdir, show, max_point_models)`` already read (e.g. shared with the PDF).
 
     Returns
     -------
@@ -74,7 +77,9 @@ def write_html(outdir, show=(), max_point_models: int = MAX_POINT_MODELS) -> Pat
         The directory cannot be written.
     """
     outdir = Path(outdir)
-    text = render_html(load_outdir(outdir), show, max_point_models)
+    if data is None:
+        data = load_outdir(outdir, show, max_point_models)
+    text = render_html(data, show, max_point_models)
     final = outdir / "report.html"
     from .atomic import atomic_write_text
 

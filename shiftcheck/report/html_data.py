@@ -8,7 +8,9 @@ What is summarised for many models (stated on the page under "summarised"):
 
 * the ranking keeps every model of ranking.csv (the page paginates it);
 * residues.csv points, the per-residue strip and the secondary structure are embedded only for
-  the best ``max_point_models`` models, the best group and the models asked for with ``show``.
+  the best ``max_point_models`` models, the best group and the models asked for with ``show``
+  (:func:`.summarise.drawn_models`, the same choice that decides which rows
+  :func:`.load.load_outdir` reads).
 """
 from __future__ import annotations
 
@@ -19,15 +21,16 @@ import numpy as np
 
 from .. import __version__
 from . import style as st
-from ._layout import model_order, rms_by_residue
+from ._layout import rms_by_residue
 from .load import ReportData
 from .pages import CAUTION, _GUIDE, flag_rows
 from .secondary_shifts import secondary_shift_difference
 from .sequence_page import HELIX_LIKE, STRAND_LIKE, Z_MAX
+from .summarise import MAX_DRAWN_MODELS, drawn_models, summarised_lines
 
 __all__ = ["page_data", "MAX_POINT_MODELS", "RESIDUE_COLUMNS", "clean"]
 
-MAX_POINT_MODELS = 100     # models whose residues.csv points are embedded (plus best group, --show)
+MAX_POINT_MODELS = MAX_DRAWN_MODELS   # models whose points are embedded (plus best group, --show)
 # residues.csv columns embedded per point; string columns are stored as indices into a list
 RESIDUE_COLUMNS = ("model", "chain", "seq_id", "comp_id", "atom_id", "nucleus", "measured",
                    "predicted", "residual", "z", "flag", "offset")
@@ -42,6 +45,12 @@ def clean(obj):
     if isinstance(obj, (list, tuple, set)):
         return [clean(v) for v in obj]
     if isinstance(obj, np.ndarray):
+        if obj.ndim == 1 and obj.dtype.kind in "fiub":       # fast path: whole numeric columns
+            out = obj.tolist()
+            if obj.dtype.kind == "f":
+                for i in np.flatnonzero(~np.isfinite(obj)).tolist():
+                    out[i] = None
+            return out
         return [clean(v) for v in obj.tolist()]
     if isinstance(obj, (bool, np.bool_)):
         return bool(obj)
@@ -85,13 +94,7 @@ def _ranking(data: ReportData) -> dict:
 
 def _embedded_models(data: ReportData, show, max_models: int) -> list[str]:
     """Best first: the best ``max_models`` with residues, then the best group and ``show``."""
-    have = set(data.residues.model)
-    ranked = [data.ranking.model[i] for i in model_order(data.ranking)]
-    ranked = [m for m in ranked if m in have]
-    chosen = ranked[:max_models]
-    extra = [m for m in ranked if m in data.best_group or m in set(show)]
-    chosen += [m for m in extra if m not in chosen]
-    return chosen
+    return drawn_models(data.ranking, data.best_group, show, max_models, have=set(data.residues.model))
 
 
 def _residues(data: ReportData, models: list[str]) -> dict:
@@ -112,8 +115,12 @@ def _sequence(data: ReportData, models: list[str]) -> dict:
     seq_ids = np.unique(res.seq_id)
     comp = {int(s): str(c) for s, c in zip(res.seq_id, res.comp_id)}
     grid = rms_by_residue(res.model, res.seq_id, res.z, models, seq_ids)
-    flagged = {m: sorted({int(s) for s in res.seq_id[(res.model == m) & (res.flag != "")]})
-               for m in models}
+    flagged = {m: set() for m in models}
+    hit = res.flag != ""
+    for m, s in zip(res.model[hit].tolist(), res.seq_id[hit].tolist()):   # one pass over the rows
+        if m in flagged:
+            flagged[m].add(int(s))
+    flagged = {m: sorted(v) for m, v in flagged.items()}
     best = res.model == data.best_model
     rows = res.select(best if best.any() else np.ones(len(res), bool))
     sseq, sval = secondary_shift_difference(rows.seq_id, rows.comp_id, rows.atom_id, rows.measured,
@@ -213,7 +220,7 @@ def page_data(data: ReportData, show=(), max_point_models: int = MAX_POINT_MODEL
         How many of the best models get their residues.csv points embedded.
     """
     models = _embedded_models(data, show, max_point_models)
-    n_with = len(set(data.residues.model))
+    n_with = data.n_models_with_rows or len(set(data.residues.model))
     offsets = {k: data.offset(k) for k in ("H", "C", "N") if data.offset(k)}
     summarised = []
     if len(models) < n_with:
@@ -221,6 +228,7 @@ def page_data(data: ReportData, show=(), max_point_models: int = MAX_POINT_MODEL
                           f"structure are embedded for {len(models)} of {n_with} models (the best "
                           f"{min(max_point_models, n_with)}, the best group and models asked for "
                           f"with --show); all {n_with} are in residues.csv.")
+        summarised += summarised_lines(data)
     return clean({"meta": _meta(data), "style": _style(), "ranking": _ranking(data),
                   "points_models": models, "residues": _residues(data, models),
                   "sequence": _sequence(data, models), "offsets": offsets,

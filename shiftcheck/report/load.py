@@ -4,6 +4,10 @@ The report is drawn only from these files, so it can be redrawn without rescorin
 columns are checked at the door (:class:`~shiftcheck.errors.InputError` naming the file and
 line); optional summary keys that are missing become notes in :attr:`ReportData.notes` and the
 figure element that needs them is skipped.
+
+For runs of more than ``max_models`` models only the residues.csv rows of the models the report
+draws are read (:func:`.summarise.drawn_models`; the file is scanned line by line, the other
+rows are not parsed); :attr:`ReportData.drawn` then lists those models.
 """
 from __future__ import annotations
 
@@ -17,6 +21,7 @@ import numpy as np
 
 from ..chem.nuclei import nucleus_class
 from ..errors import InputError
+from .summarise import MAX_DRAWN_MODELS, drawn_models
 
 __all__ = ["RankingTable", "ResidueTable", "ReportData", "load_outdir", "RANKING_REQUIRED",
            "RESIDUES_REQUIRED"]
@@ -80,23 +85,21 @@ class ReportData:
     ranking: RankingTable
     residues: ResidueTable
     notes: list[str] = field(default_factory=list)
+    #: models whose residues.csv rows were read, best first; None when every row was read
+    drawn: list[str] | None = None
+    #: number of distinct models named in residues.csv
+    n_models_with_rows: int = 0
+    #: the ``max_models`` the rows were chosen with
+    max_models: int = MAX_DRAWN_MODELS
 
     @property
     def best_model(self) -> str:
-        best = self.summary.get("best_model")
-        if isinstance(best, str) and best in self.ranking.model:
-            return best
-        order = np.argsort(self.ranking.rank, kind="stable")
-        return self.ranking.model[int(order[0])]
+        return _best_model(self.summary, self.ranking)
 
     @property
     def best_group(self) -> set[str]:
         """Models that cannot be told apart from the best (from summary.json's ranking)."""
-        rows = self.summary.get("ranking")
-        group = set()
-        if isinstance(rows, list):
-            group = {r.get("model") for r in rows if isinstance(r, dict) and r.get("best_group")}
-        return (group & set(self.ranking.model)) or {self.best_model}
+        return _best_group(self.summary, self.ranking)
 
     def offset(self, kind: str) -> dict | None:
         """The summary's offset entry for 'H', 'C' or 'N', or None."""
@@ -106,6 +109,22 @@ class ReportData:
         return None
 
 
+def _best_model(summary: dict, ranking: RankingTable) -> str:
+    best = summary.get("best_model")
+    if isinstance(best, str) and best in ranking.model:
+        return best
+    order = np.argsort(ranking.rank, kind="stable")
+    return ranking.model[int(order[0])]
+
+
+def _best_group(summary: dict, ranking: RankingTable) -> set[str]:
+    rows = summary.get("ranking")
+    group = set()
+    if isinstance(rows, list):
+        group = {r.get("model") for r in rows if isinstance(r, dict) and r.get("best_group")}
+    return (group & set(ranking.model)) or {_best_model(summary, ranking)}
+
+
 def _float(text: str) -> float:
     text = text.strip()
     if text == "" or text.lower() in ("nan", "na", "none", "."):
@@ -113,12 +132,46 @@ def _float(text: str) -> float:
     return float(text)
 
 
-def _read_csv(path: Path, required: tuple[str, ...]) -> tuple[list[str], list[list[str]]]:
+def _first_field(line: str) -> str:
+    """The first CSV field of one line (quoted fields parsed by the csv module)."""
+    if line.startswith('"'):
+        return next(csv.reader([line]), [""])[0]
+    return line.split(",", 1)[0].rstrip("\r\n")
+
+
+def _kept_lines(fh, keep: set, seen: set) -> list[tuple[int, str]]:
+    """(line number, text) of the lines whose first field is in ``keep``; every first field
+    met is added to ``seen``. Rows of one model are consecutive, so a line that starts like
+    the one before it is not parsed again."""
+    out, prefix, kept = [], None, False
+    for i, line in enumerate(fh, start=2):
+        if prefix is None or not line.startswith(prefix):
+            name = _first_field(line)
+            seen.add(name)
+            kept = name in keep
+            prefix = ('"' + name.replace('"', '""') + '",') if line.startswith('"') else name + ","
+        if kept:
+            out.append((i, line))
+    seen.discard("")
+    return out
+
+
+def _read_csv(path: Path, required: tuple[str, ...], keep: set | None = None,
+              seen: set | None = None) -> tuple[list[str], list[list[str]]]:
+    """Header and body rows of a CSV file; with ``keep``, only rows whose first field is in it
+    (the names of all first fields are collected into ``seen``)."""
     if not path.is_file():
         raise InputError("missing file (is this a shiftcheck score output directory?)", path=path)
     try:
         with open(path, newline="", encoding="utf-8") as fh:
-            rows = list(csv.reader(fh))
+            if keep is None:
+                rows = list(csv.reader(fh))
+                numbers = range(1, len(rows) + 1)
+            else:
+                head = fh.readline()
+                kept = _kept_lines(fh, keep, seen if seen is not None else set())
+                rows = list(csv.reader([head] + [t for _, t in kept])) if head else []
+                numbers = [1] + [i for i, _ in kept]
     except (OSError, UnicodeDecodeError, csv.Error) as exc:
         raise InputError(f"cannot read CSV: {exc}", path=path) from None
     if not rows:
@@ -127,11 +180,24 @@ def _read_csv(path: Path, required: tuple[str, ...]) -> tuple[list[str], list[li
     missing = [c for c in required if c not in header]
     if missing:
         raise InputError(f"missing column(s) {', '.join(missing)}", path=path, line=1)
-    body = [r for r in rows[1:] if any(x.strip() for x in r)]
-    for i, r in enumerate(rows[1:], start=2):
-        if any(x.strip() for x in r) and len(r) != len(header):
-            raise InputError(f"{len(r)} fields where the header has {len(header)}", path=path, line=i)
+    if keep is not None and header[:1] != ["model"]:
+        raise InputError("expected 'model' as the first column", path=path, line=1)
+    body = _Rows()
+    for i, r in zip(numbers[1:], rows[1:]):
+        if any(x.strip() for x in r):
+            if len(r) != len(header):
+                raise InputError(f"{len(r)} fields where the header has {len(header)}", path=path, line=i)
+            body.append(r)
+            body.lines.append(i)
     return header, body
+
+
+class _Rows(list):
+    """Body rows of a CSV file with their line numbers (``lines``), for messages."""
+
+    def __init__(self):
+        super().__init__()
+        self.lines: list[int] = []
 
 
 def _column(header, body, name, path, conv=str):
@@ -141,7 +207,8 @@ def _column(header, body, name, path, conv=str):
         try:
             out.append(conv(r[j]))
         except ValueError:
-            raise InputError(f"column {name}: not a number: {r[j]!r}", path=path, line=i + 2) from None
+            raise InputError(f"column {name}: not a number: {r[j]!r}", path=path,
+                             line=body.lines[i]) from None
     return out
 
 
@@ -160,8 +227,8 @@ def _read_ranking(path: Path) -> RankingTable:
                         metrics=metrics, nuclei=nuclei)
 
 
-def _read_residues(path: Path) -> ResidueTable:
-    header, body = _read_csv(path, RESIDUES_REQUIRED)
+def _read_residues(path: Path, keep: set | None = None, seen: set | None = None) -> ResidueTable:
+    header, body = _read_csv(path, RESIDUES_REQUIRED, keep, seen)
     cols = {c: _column(header, body, c, path) for c in ("model", "chain", "comp_id", "atom_id", "flag")}
     seq = _column(header, body, "seq_id", path, lambda s: int(float(s)))
     num = {c: np.array(_column(header, body, c, path, _float), dtype=float)
@@ -182,13 +249,18 @@ def _read_residues(path: Path) -> ResidueTable:
                         nucleus=np.array(nuc, dtype=object), offset=offset, **num)
 
 
-def load_outdir(outdir) -> ReportData:
+def load_outdir(outdir, show=(), max_models: int = MAX_DRAWN_MODELS) -> ReportData:
     """Read ``summary.json``, ``ranking.csv`` and ``residues.csv`` from a score output directory.
 
     Parameters
     ----------
     outdir : str or Path
         Directory written by ``shiftcheck score ... -o OUTDIR``.
+    show : sequence of str
+        Models whose residues.csv rows are read whatever their rank.
+    max_models : int
+        With more models than this in ranking.csv, only the rows of the best ``max_models``,
+        the best group and ``show`` are read (:attr:`ReportData.drawn`).
 
     Returns
     -------
@@ -214,13 +286,23 @@ def load_outdir(outdir) -> ReportData:
     if not isinstance(summary, dict):
         raise InputError("expected a JSON object at top level", path=spath, line=1)
     ranking = _read_ranking(outdir / "ranking.csv")
-    residues = _read_residues(outdir / "residues.csv")
-    data = ReportData(outdir=outdir, summary=summary, ranking=ranking, residues=residues)
+    drawn = None
+    if len(ranking.model) > max_models:
+        keep = drawn_models(ranking, _best_group(summary, ranking), show, max_models)
+        seen: set[str] = set()
+        residues = _read_residues(outdir / "residues.csv", set(keep), seen)
+        have = set(residues.model)
+        drawn = [m for m in keep if m in have]
+    else:
+        residues = _read_residues(outdir / "residues.csv")
+        seen = set(residues.model)
+    data = ReportData(outdir=outdir, summary=summary, ranking=ranking, residues=residues,
+                      drawn=drawn, n_models_with_rows=len(seen), max_models=max_models)
     for key in ("inputs", "mapping", "offsets", "flags", "secondary_structure", "expected_error",
                 "parameters", "data_checks"):
         if key not in summary:
             data.notes.append(f"summary.json has no '{key}'; the parts of the report that need it are left out")
-    unknown = sorted(set(residues.model) - set(ranking.model))
+    unknown = sorted(seen - set(ranking.model))
     if unknown:
         data.notes.append(f"residues.csv names model(s) not in ranking.csv: {', '.join(unknown[:5])}")
     return data

@@ -12,6 +12,7 @@ from matplotlib.lines import Line2D
 from . import style as st
 from ._layout import fmt, short_hash
 from .load import ReportData
+from .summarise import summarised_lines
 
 __all__ = ["title_page", "flags_figure", "flag_page_count", "flag_rows", "CAUTION"]
 
@@ -122,6 +123,11 @@ def _lines(data: ReportData) -> list[tuple[str, str]]:
                      f"{len(s.get('data_checks') or [])} data-check findings, {n_left} shifts left out"))
     for w in list(s.get("warnings") or [])[:5] + data.notes[:4]:
         out += [("t", ln) for ln in textwrap.wrap(f"- {w}", 110)[:2]]
+    summarised = summarised_lines(data)
+    if summarised:
+        out.append(("h", "Summarised (many models)"))
+        for w in summarised:
+            out += [("t", ln) for ln in textwrap.wrap(w, 110)]
     out.append(("h", "Reading this report"))
     out += [("t", g) for g in _GUIDE]
     out.append(("h", "Caution"))

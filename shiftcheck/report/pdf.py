@@ -19,12 +19,14 @@ from . import figures as fg
 from . import pages
 from . import style as st
 from .atomic import umask
+from .distributions import distributions_figure
 from .load import ReportData, load_outdir
+from .summarise import MAX_DRAWN_MODELS
 
 __all__ = ["write_report", "report_figures", "PLOT_FORMATS"]
 
 PLOT_FORMATS = ("png", "svg")
-_OWN_PLOT = re.compile(r"^(ranking|correlation_.+|sequence|referencing|flags_\d+)\.(png|svg)$")
+_OWN_PLOT = re.compile(r"^(ranking|distributions|correlation_.+|sequence|referencing|flags_\d+)\.(png|svg)$")
 
 
 def _safe(name: str) -> str:
@@ -54,6 +56,8 @@ def report_figures(data: ReportData, show=()) -> list[tuple[str, object]]:
     corr = [data.best_model] + [m for m in dict.fromkeys(show) if m != data.best_model]
     out: list[tuple[str | None, object]] = [(None, pages.title_page(data)),
                                             ("ranking", fg.ranking_figure(data))]
+    if data.drawn is not None:    # many models: the whole run as distributions
+        out.append(("distributions", distributions_figure(data)))
     used = set()
     for m in corr:
         stem = f"correlation_{_safe(m)}"
@@ -75,7 +79,8 @@ def _tmp(directory: Path, suffix: str) -> Path:
     return Path(name)
 
 
-def write_report(outdir, formats=("png",), show=()) -> list[Path]:
+def write_report(outdir, formats=("png",), show=(), max_models: int = MAX_DRAWN_MODELS,
+                 data: ReportData | None = None) -> list[Path]:
     """Draw the report of a score output directory.
 
     Parameters
@@ -86,6 +91,12 @@ def write_report(outdir, formats=("png",), show=()) -> list[Path]:
         Plot formats for OUTDIR/plots: any of 'png' (150 dpi) and 'svg'. The PDF is always written.
     show : sequence of str
         Models (as named in ranking.csv) to draw correlation pages for besides the best model.
+    max_models : int
+        With more models than this, the pages draw the best ``max_models``, the best group and
+        ``show`` (only their residues.csv rows are read) and add a page of distributions over
+        all models; the opening page says so.
+    data : ReportData, optional
+        ``load_outdir(outdir, show, max_models)`` already read (e.g. shared with report.html).
 
     Returns
     -------
@@ -103,7 +114,7 @@ def write_report(outdir, formats=("png",), show=()) -> list[Path]:
     bad = [f for f in formats if f not in PLOT_FORMATS]
     if bad:
         raise InputError(f"unknown plot format {bad[0]!r} (choose from {', '.join(PLOT_FORMATS)})")
-    data = load_outdir(outdir)
+    data = load_outdir(outdir, show, max_models) if data is None else data
     outdir = Path(outdir)
     figs = report_figures(data, show)
     plots = outdir / "plots"
