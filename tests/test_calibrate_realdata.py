@@ -111,3 +111,17 @@ def test_expected_errors_match_normal_tail(refit):
     for nuc, rmsd in refit["loo_rmsd"]["values"].items():
         ee = refit["expected_error"]["values"][nuc]
         assert rmsd < ee < 2 * rmsd, (nuc, ee, rmsd)
+
+
+def test_pairs_file_patterns_match_exactly_one_file(tmp_path):
+    # common practice, no source: a '*' path names the one file it matches; none or several refuse
+    (tmp_path / "d").mkdir()
+    (tmp_path / "d" / "x_one.cif.gz").write_text("")
+    (tmp_path / "d" / "s.str").write_text("")
+    pf = tmp_path / "pairs.tsv"
+    pf.write_text("d/s.str\td/*.cif.gz\n")
+    (p,) = read_pairs_file(str(pf))
+    assert p.models.endswith("x_one.cif.gz") and p.label == "d/s.str + d/*.cif.gz"
+    (tmp_path / "d" / "x_two.cif.gz").write_text("")
+    with pytest.raises(InputError, match="matches 2 files"):
+        read_pairs_file(str(pf))

@@ -67,7 +67,7 @@ TRAINING = {
 }
 # extra backbone donors (single-chain lowest-energy models of the nef_set), with the PDB id
 # of the training protein they are (so a protein is never threaded onto itself)
-DONORS = {f"nef_set/{p}/{p}_Xplor-NIH_lowest.cif": p for p in
+DONORS = {f"nef_set/{p}/*_lowest.cif": p for p in
           ("2jr2", "2juw", "2k07", "2k2e", "2kcu", "2kko", "2ko1", "2kpu", "2loy", "2luz", "2png", "6nbn")}
 SAME = {"so_2176": {"2juw"}, "yppr": {"2kpu"}}
 BASINS = {"aR": (-63.0, -42.0), "b": (-120.0, 130.0), "PII": (-75.0, 145.0), "aL": (80.0, 10.0)}
@@ -245,7 +245,10 @@ def _donors(root: Path, folder: str, L: int, min_fraction: float = 1.0) -> list[
     cands += [p for p, pid in DONORS.items() if pid not in SAME.get(folder, set())]
     out = []
     for rel in cands:
-        d = heavy_only(read_models([root / rel], build_hydrogens=False)[0].select_models([0]))
+        hits = sorted(root.glob(rel)) if "*" in rel else [root / rel]   # donors: the folder's *_lowest.cif
+        if not hits:
+            continue
+        d = heavy_only(read_models([hits[0]], build_hydrogens=False)[0].select_models([0]))
         if d.n_residues >= min_fraction * L:
             out.append((rel, d))
     out.sort(key=lambda x: (x[1].n_residues < L, abs(x[1].n_residues - L), x[0]))

@@ -135,7 +135,7 @@ def main() -> int:
              "Structures used for fitting (see the comments in tools/realdata_pairs.tsv): the first 13 "
              "proteins with their NMR ensemble and X-ray structure (hsr50: two single models); the "
              "nef_set proteins with the deposited PDB ensemble where the folder has one (2jr2, 2k2e, "
-             "2kcu, 2png), else the NMRFx re-calculation (5-model ensemble; 2k07, 2kko, 2ko1, 2loy, "
+             "2kcu, 2png), else the 5-model re-calculation distributed as the folder's .cif.gz file ( 2k07, 2kko, 2ko1, 2loy, "
              "2luz), except 6nbn, whose AMBER re-calculation is the only model with its disulfides "
              "formed. nef_set/2juw and nef_set/2kpu are the entries of so_2176 and yppr and are not "
              "counted twice. Homodimers (2jr2, 2kko, 2ko1): chain A only, and all through-space terms "

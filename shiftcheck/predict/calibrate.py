@@ -83,7 +83,8 @@ def read_pairs_file(path: str, data_dir: str | None = None) -> list[Pair]:
     """Read a pairs file: one pair per line, ``SHIFTS<TAB>MODELS[<TAB>CHAIN]``.
 
     Blank lines and lines starting with '#' are skipped; fields may also be separated by runs of
-    spaces. Relative paths are taken relative to ``data_dir`` (default: the pairs file's folder).
+    spaces. Relative paths are taken relative to ``data_dir`` (default: the pairs file's folder);
+    a path may be a ``*`` pattern that matches exactly one file there.
     CHAIN '-' or absent means the first protein chain.
     """
     base = Path(data_dir) if data_dir else Path(path).parent
@@ -100,10 +101,21 @@ def read_pairs_file(path: str, data_dir: str | None = None) -> list[Pair]:
         if len(f) not in (2, 3):
             raise InputError("expected SHIFTS<TAB>MODELS[<TAB>CHAIN]", path=path, line=k)
         chain = f[2] if len(f) == 3 and f[2] != "-" else None
-        pairs.append(Pair(str(base / f[0]), str(base / f[1]), chain, label=f"{f[0]} + {f[1]}"))
+        shifts, models = (_one_match(base, x, path, k) for x in f[:2])
+        pairs.append(Pair(shifts, models, chain, label=f"{f[0]} + {f[1]}"))
     if not pairs:
         raise InputError("no pairs in file", path=path)
     return pairs
+
+
+def _one_match(base: Path, rel: str, path: str, line: int) -> str:
+    """``base / rel``; a ``*`` pattern must match exactly one file (the label keeps the pattern)."""
+    if "*" not in rel:
+        return str(base / rel)
+    hits = sorted(base.glob(rel))
+    if len(hits) != 1:
+        raise InputError(f"pattern {rel!r} matches {len(hits)} files (expected one)", path=path, line=line)
+    return str(hits[0])
 
 
 def build_dataset(shifts: ShiftList, ens: Ensemble, seq_to_res: dict, label: str, group: str, weight: float = 1.0,

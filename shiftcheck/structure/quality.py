@@ -7,7 +7,7 @@ torsions mean little, so every scored model gets a geometry record (ranking is n
   spheres (Bondi 1964, J. Phys. Chem. 68:441) overlap by at least 0.4 Å, i.e.
   ``d < r_i + r_j - 0.4``; pairs of N/O atoms (possible hydrogen bonds) only below 2.5 Å. Atoms
   separated by three or fewer covalent bonds are not tested. Reported per 1000 heavy atoms
-  (MolProbity's clashscore scale, but without hydrogens, so the numbers are smaller), plus the
+  (the scale of all-atom clash scores, but without hydrogens, so the numbers are smaller), plus the
   count of pairs closer than 2.0 Å ("severe").
 * **Chain breaks**: consecutive residues whose C(i)–N(i+1) distance exceeds 2.0 Å or where
   either atom is missing.
