@@ -2,7 +2,8 @@
 
     SHIFTCHECK_REALDATA=../shared/realdata python benchmarks/bench_pipeline.py [--repeat 3]
 
-Prints, side by side in one run (best of ``--repeat`` runs each; the machine may be shared):
+Prints, side by side in one run (best of ``--repeat`` runs each; the machine may be shared, so
+the load average is printed at the start and the end):
 
 1. The 200-model ensemble: the 20 NMR models of ``this/2k5p.pdb`` (78 residues, 1,180 atom
    sites a model, hydrogens included) written ten times over into one temporary multi-model PDB
@@ -158,6 +159,7 @@ def main(argv=None) -> int:
     ap.add_argument("--repeat", type=int, default=3, help="runs per figure; the best is kept")
     ap.add_argument("--files", type=int, default=1000, help="single-model files for part 4 (0: skip)")
     a = ap.parse_args(argv)
+    print("load average (1, 5, 15 min) at start: " + " ".join(f"{x:.2f}" for x in os.getloadavg()))
     data = realdata_root()
     import gemmi
 
@@ -233,6 +235,7 @@ def main(argv=None) -> int:
                                             check=True, capture_output=True), max(a.repeat, 5))
     t_py = best_of(lambda: subprocess.run([sys.executable, "-c", "pass"], check=True), max(a.repeat, 5))
     print(f"shiftcheck --help: {t_help:.3f} s (bare python start-up {t_py:.3f} s; target <= 0.3 s)")
+    print("load average (1, 5, 15 min) at end: " + " ".join(f"{x:.2f}" for x in os.getloadavg()))
     return 0
 
 
