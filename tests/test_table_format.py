@@ -1,4 +1,4 @@
-"""The column-wise writers of shiftcheck/report/tables.py against the reference they replace:
+"""The column-wise writers of shiftcheck/report/tables.py (and _csv_bytes.py) against the reference they replace:
 Python's own ``repr(round(x, nd))`` (the row-wise writer's number format) and the standard
 library's csv module writing residue_rows() row by row (docs/outputs.md: residues.csv)."""
 from pathlib import Path
@@ -8,6 +8,7 @@ import pytest
 
 from shiftcheck.pipeline import score_files
 from shiftcheck.report import tables
+from shiftcheck.report._csv_bytes import _text
 
 DEMO = Path(tables.__file__).resolve().parents[1] / "demo"
 
@@ -25,7 +26,7 @@ def test_fixed_format_equals_python_round_repr(nd):
              np.round(rng.normal(0, 5, 5000), nd) + 0.5 * 10.0 ** -nd,   # values next to a half
              np.round(rng.normal(0, 5, 5000), nd), np.array(edge), np.zeros(0)]
     for values in cases:
-        assert tables._text(values, nd) == _python(values, nd)
+        assert _text(values, nd) == _python(values, nd)
 
 
 def test_residues_csv_equals_rowwise_csv_module():
