@@ -2,7 +2,8 @@
 
     SHIFTCHECK_REALDATA=../shared/realdata python benchmarks/bench_pipeline.py [--repeat 3]
 
-Prints, side by side in one run (best of ``--repeat`` runs each; the machine may be shared):
+Prints, side by side in one run (best of ``--repeat`` runs each; the machine may be shared, so
+the load average is printed at the start and the end):
 
 1. The 200-model ensemble: the 20 NMR models of ``this/2k5p.pdb`` (78 residues, 1,180 atom
    sites a model, hydrogens included) written ten times over into one temporary multi-model PDB
@@ -46,7 +47,22 @@ from pathlib import Path
 
 from _timing import best_of, realdata_root
 
-ROOT = Path(__file__).resolve().parents[1]
+
+def cpu_of(fn, n: int = 3) -> float:
+    """Least CPU time (user + system, this process and the child processes it reaped) of ``n``
+    calls of ``fn()``: less sensitive than wall time to other jobs on a shared machine."""
+    import resource
+
+    def now():
+        ch = resource.getrusage(resource.RUSAGE_CHILDREN)
+        return time.process_time() + ch.ru_utime + ch.ru_stime
+
+    times = []
+    for _ in range(n):
+        t = now()
+        fn()
+        times.append(now() - t)
+    return min(times)
 
 
 def build_repeated(src: Path, dest: Path, copies: int) -> int:
@@ -158,14 +174,18 @@ def main(argv=None) -> int:
     ap.add_argument("--repeat", type=int, default=3, help="runs per figure; the best is kept")
     ap.add_argument("--files", type=int, default=1000, help="single-model files for part 4 (0: skip)")
     a = ap.parse_args(argv)
+    print("load average (1, 5, 15 min) at start: " + " ".join(f"{x:.2f}" for x in os.getloadavg()))
     data = realdata_root()
     import gemmi
 
+    import shiftcheck
     from shiftcheck.cli import main as cli_main
     from shiftcheck.io.coords import read_models
     from shiftcheck.predict.model import Predictor
 
-    env = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    root = Path(shiftcheck.__file__).resolve().parents[1]      # the subprocess runs the same code
+    print(f"shiftcheck from {root}")
+    env = dict(os.environ, PYTHONPATH=str(root) + os.pathsep + os.environ.get("PYTHONPATH", ""))
     with tempfile.TemporaryDirectory(prefix="shiftcheck-bench-") as tmp:
         tmp = Path(tmp)
         pdb = tmp / "ens200.pdb"
@@ -175,9 +195,9 @@ def main(argv=None) -> int:
         t_gemmi = best_of(lambda: gemmi.read_structure(str(pdb)), a.repeat)
         out = tmp / "out"
 
-        def run_inproc():
+        def run_inproc(*extra):
             with contextlib.redirect_stdout(io.StringIO()):
-                rc = cli_main(_score_args(shifts, pdb, out))
+                rc = cli_main(_score_args(shifts, pdb, out) + list(extra))
             assert rc == 0, rc
 
         t_first = time.perf_counter()
@@ -186,14 +206,25 @@ def main(argv=None) -> int:
         t_in = best_of(run_inproc, a.repeat)
         cmd = [sys.executable, "-m", "shiftcheck", *_score_args(shifts, pdb, out)]
         t_sub = best_of(lambda: subprocess.run(cmd, env=env, check=True, capture_output=True), a.repeat)
+        t_one = best_of(lambda: run_inproc("--jobs", "1"), a.repeat)
         print(f"200-model ensemble: {n_models} models of 2k5p, {n_sites} atom sites, "
               f"{pdb.stat().st_size / 1e6:.1f} MB")
-        print(f"  {'step':<42} {'time':>8} {'atoms/s':>10} {'x gemmi':>8}")
+        print(f"  {'step (wall time)':<42} {'time':>8} {'atoms/s':>10} {'x gemmi':>8}")
         for label, t in (("gemmi.read_structure", t_gemmi),
                          ("score --no-report, in-process", t_in),
                          ("  (first in-process call)", t_first),
-                         ("score --no-report, subprocess", t_sub)):
+                         ("score --no-report, subprocess", t_sub),
+                         ("score --no-report --jobs 1, in-process", t_one)):
             print(f"  {label:<42} {t:8.3f} {n_sites / t / 1e3:9.0f}k {t / t_gemmi:8.1f}")
+        c_gemmi = cpu_of(lambda: gemmi.read_structure(str(pdb)), a.repeat)
+        cpu = (("gemmi.read_structure", c_gemmi),
+               ("score --no-report, in-process (+ workers)", cpu_of(run_inproc, a.repeat)),
+               ("score --no-report, subprocess (+ workers)",
+                cpu_of(lambda: subprocess.run(cmd, env=env, check=True, capture_output=True), a.repeat)),
+               ("score --no-report --jobs 1, in-process", cpu_of(lambda: run_inproc("--jobs", "1"), a.repeat)))
+        print(f"  {'step (CPU time, all processes)':<42} {'CPU s':>8} {'':>10} {'x gemmi':>8}")
+        for label, t in cpu:
+            print(f"  {label:<42} {t:8.3f} {'':>10} {t / c_gemmi:8.1f}")
 
         # --- size scaling: about 60 against about 1,000 residues
         small = data / "ci2" / "3CI2.pdb"
@@ -233,6 +264,7 @@ def main(argv=None) -> int:
                                             check=True, capture_output=True), max(a.repeat, 5))
     t_py = best_of(lambda: subprocess.run([sys.executable, "-c", "pass"], check=True), max(a.repeat, 5))
     print(f"shiftcheck --help: {t_help:.3f} s (bare python start-up {t_py:.3f} s; target <= 0.3 s)")
+    print("load average (1, 5, 15 min) at end: " + " ".join(f"{x:.2f}" for x in os.getloadavg()))
     return 0
 
 

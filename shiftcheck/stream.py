@@ -200,10 +200,11 @@ def _read(task: Task, chain):
         except ShiftcheckError as exc:
             exc.path = task.path if exc.path in (None, part) else exc.path
             raise
-    serials = [ln.split()[1] if len(ln.split()) > 1 else "" for ln in body.splitlines()
-               if ln.startswith(b"MODEL ")]
-    if ens.model_names == [base] and len(serials) == 1:        # a one-model run of a larger file
-        ens.model_names = [f"{base}#{serials[0].decode()}"]
+    if ens.model_names == [base]:        # a one-model run of a larger file? (no line scan otherwise)
+        serials = [ln.split()[1] if len(ln.split()) > 1 else "" for ln in body.splitlines()
+                   if ln.startswith(b"MODEL ")]
+        if len(serials) == 1:
+            ens.model_names = [f"{base}#{serials[0].decode()}"]
     ens.sources = [task.path]
     return _relabel(ens, task.label)
 

@@ -4,7 +4,10 @@ With numba installed (``pip install shiftcheck[fast]``) the contact-density sum
 (:func:`shiftcheck.predict.burial.contact_density`) and the peptide-group anisotropy sums
 (:func:`shiftcheck.predict.anisotropy.anisotropy_features`) run as one compiled loop per model
 over a cell list (cells at least as large as the cutoff, so the neighbours of an atom lie in its own
-and the 26 adjacent cells) instead of a k-d tree pair list followed by several numpy passes.
+and the 26 adjacent cells) instead of a k-d tree pair list followed by several numpy passes;
+the Haigh–Mallion ring-current sums (:func:`shiftcheck.predict.ringcurrent.ring_current_factors`)
+loop over targets and the few rings directly, with the per-ring-edge parts computed by numpy
+(the other two ring models keep the numpy path).
 Results equal the numpy path up to the order of summation (tests/test_fast_kernels.py runs
 both and compares to 1e-9); benchmarks/README.md gives the measured gain that justifies the
 optional dependency.
@@ -22,7 +25,7 @@ import os
 
 import numpy as np
 
-__all__ = ["numba_enabled", "contact_density_kernel", "axial_dipole_kernel"]
+__all__ = ["numba_enabled", "contact_density_kernel", "axial_dipole_kernel", "hm_ring_kernel", "preload"]
 
 _KERNELS: dict = {}
 
@@ -38,6 +41,30 @@ def numba_enabled() -> bool:
         except ImportError:
             _KERNELS["numba"] = False
     return _KERNELS["numba"]
+
+
+def preload() -> bool:
+    """Load the compiled kernels now (when numba is enabled); True if they are loaded.
+
+    Called by :meth:`shiftcheck.predict.model.Predictor.load`, i.e. in the process that sets up
+    a run, before it starts worker processes: forked workers then inherit the loaded machine
+    code instead of each loading it again (about 0.35 s per process, more under load;
+    benchmarks/README.md). Each kernel is called once on a few points with the argument types
+    of a real call (so later calls find the compiled version); the results are discarded.
+    """
+    if not numba_enabled():
+        return False
+    if _KERNELS.get("loaded"):
+        return True
+    x = np.zeros((1, 2, 3))
+    x[0, 1] = 1.0
+    r = np.arange(2)
+    contact_density_kernel(x, r, x, r, np.array([1.0]), 0.5, 0, 1.5)
+    axial_dipole_kernel(x, r, x, np.ones((1, 1, 2, 3)), r, 1.5)
+    hm_ring_kernel(x, r, x[:, :1], r[:1] + 5, np.ones((1, 1), bool), np.ones((1, 1, 2)),
+                   np.ones((1, 1, 2, 3)), np.ones((1, 1, 2, 3)), 1.5)
+    _KERNELS["loaded"] = True
+    return True
 
 
 def _kernel(name):
@@ -66,3 +93,18 @@ def axial_dipole_kernel(tx, t_res, origin, axes, g_res, cutoff) -> np.ndarray:
                          np.ascontiguousarray(origin, dtype=np.float64),
                          np.ascontiguousarray(axes, dtype=np.float64),
                          np.ascontiguousarray(g_res, dtype=np.int64), float(cutoff))
+
+
+def hm_ring_kernel(tx, t_res, centre, ring_res, valid, area0, edge, xyz, cutoff) -> np.ndarray:
+    """Compiled Haigh–Mallion sums over the rings of one type within ``cutoff`` of each target
+    (own-residue rings left out), (n_models, n_targets); per-ring parts ``area0`` (n_models,
+    n_rings, k) and ``edge`` (n_models, n_rings, k, 3) as in ``ringcurrent._hm_kernel``. See
+    :func:`shiftcheck.predict.ringcurrent.ring_current_factors`."""
+    return _kernel("hm_ring_sums")(np.ascontiguousarray(tx, dtype=np.float64),
+                                   np.ascontiguousarray(t_res, dtype=np.int64),
+                                   np.ascontiguousarray(centre, dtype=np.float64),
+                                   np.ascontiguousarray(ring_res, dtype=np.int64),
+                                   np.ascontiguousarray(valid, dtype=np.bool_),
+                                   np.ascontiguousarray(area0, dtype=np.float64),
+                                   np.ascontiguousarray(edge, dtype=np.float64),
+                                   np.ascontiguousarray(xyz, dtype=np.float64), float(cutoff))

@@ -147,3 +147,40 @@ def axial_dipole(tx, t_res, origin, axes, g_res, cutoff):   # pragma: no cover (
                         z = vx * axes[k, m, j, 0] + vy * axes[k, m, j, 1] + vz * axes[k, m, j, 2]
                         out[k, m, i] += (1.0 - 3.0 * z * z / r2) / (r2 * np.sqrt(r2))
     return out
+
+
+@numba.njit(cache=True, nogil=True)
+def hm_ring_sums(tx, t_res, centre, ring_res, valid, area0, edge, xyz, cutoff):   # pragma: no cover
+    """Haigh–Mallion factors summed over the rings within ``cutoff`` of each target (rings of
+    the target's own residue left out), (n_models, n_targets): the arithmetic of
+    ``ringcurrent._hm_kernel`` pair by pair, rings in index order."""
+    n_models, n_t = tx.shape[0], tx.shape[1]
+    n_r, n_k = area0.shape[1], area0.shape[2]
+    out = np.zeros((n_models, n_t))
+    c2 = cutoff * cutoff
+    inv3 = np.empty(n_k)
+    for m in range(n_models):
+        for i in range(n_t):
+            px, py, pz = tx[m, i, 0], tx[m, i, 1], tx[m, i, 2]
+            acc = 0.0
+            for j in range(n_r):
+                if not valid[m, j] or ring_res[j] == t_res[i]:
+                    continue
+                vx = px - centre[m, j, 0]
+                vy = py - centre[m, j, 1]
+                vz = pz - centre[m, j, 2]
+                if not (vx * vx + vy * vy + vz * vz <= c2):
+                    continue
+                for k in range(n_k):
+                    dx = xyz[m, j, k, 0] - px
+                    dy = xyz[m, j, k, 1] - py
+                    dz = xyz[m, j, k, 2] - pz
+                    r = np.sqrt(dx * dx + dy * dy + dz * dz)
+                    inv3[k] = 1.0 / r ** 3.0
+                g = 0.0
+                for k in range(n_k):
+                    area = area0[m, j, k] + (edge[m, j, k, 0] * vx + edge[m, j, k, 1] * vy + edge[m, j, k, 2] * vz)
+                    g += area * (inv3[k] + inv3[(k + 1) % n_k])
+                acc += -g
+            out[m, i] = acc
+    return out

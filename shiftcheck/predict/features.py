@@ -49,21 +49,24 @@ def find_targets(ens: Ensemble) -> Targets:
     for d in (METHYL_PROTONS, AROMATIC_PROTONS):
         for names in d.values():
             cand.update(names)
-    ri, an, nu, ai = [], [], [], []
-    for i, (r, a) in enumerate(zip(ens.atom_res, ens.atom_name)):
-        a = str(a)
-        if a not in cand or not present[i]:
-            continue
-        cls = nucleus_class(str(ens.res_name[r]), a)
-        if cls is None or (a == "HA" and ens.res_name[r] == "GLY"):
-            continue
-        ri.append(int(r)), an.append(a), nu.append(cls), ai.append(i)
-    order = np.lexsort((np.array(ai), np.array(ri))) if ri else np.zeros(0, int)
-    ri = np.array(ri, dtype=np.int64)[order]
+    names = np.asarray(ens.atom_name).astype(str)
+    atom_res = np.asarray(ens.atom_res, dtype=np.int64)
+    res_name = np.asarray(ens.res_name).astype(str)
+    ai = np.flatnonzero(np.isin(names, sorted(cand)) & present)
+    an, rn = names[ai].tolist(), res_name[atom_res[ai]].tolist()
+    classes: dict = {}                    # one nucleus_class call per distinct (residue, atom)
+    nu = [classes[k] if k in classes else classes.setdefault(k, nucleus_class(*k)) for k in zip(rn, an)]
+    keep = [c is not None and not (a == "HA" and r == "GLY") for c, a, r in zip(nu, an, rn)]
+    ai = ai[np.asarray(keep, dtype=bool)] if ai.size else ai
+    an = [a for a, k in zip(an, keep) if k]
+    nu = [c for c, k in zip(nu, keep) if k]
+    ri = atom_res[ai]
+    order = np.lexsort((ai, ri)) if ri.size else np.zeros(0, int)
+    ri = ri[order]
     return Targets(res_index=ri, atom_id=np.array(an, dtype=object)[order],
                    nucleus=np.array(nu, dtype=object)[order],
                    comp_id=np.asarray(ens.res_name, dtype=object)[ri],
-                   atom_index=np.array(ai, dtype=np.int64)[order])
+                   atom_index=ai[order].astype(np.int64))
 
 
 @dataclass

@@ -74,8 +74,14 @@ class Predictor:
 
     def load(self) -> "Predictor":
         """Read the learned values from the parameter file ``params`` (validated); returns self.
-        Raises ParameterError naming the file."""
-        return self._learned(load_params(self.params))
+        Raises ParameterError naming the file. Also loads the compiled kernels when numba is
+        enabled (:func:`shiftcheck.predict._fast.preload`), so worker processes forked after
+        this call share them."""
+        from ._fast import preload
+
+        self._learned(load_params(self.params))
+        preload()
+        return self
 
     def fit(self, data, settings: dict | None = None, description: str = "") -> "Predictor":
         """Learn the coefficients from (shift list, structure) pairs; returns self.

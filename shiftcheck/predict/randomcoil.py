@@ -145,9 +145,18 @@ def random_coil(ens: Ensemble, res_index: np.ndarray, atom_id: np.ndarray, nucle
     res_index = np.asarray(res_index)
     atom_id = np.asarray(atom_id)
     comp = ens.res_name[res_index].astype(str)
-    base = np.array([table_value(table, c, a) for c, a in zip(comp, atom_id)])
-    base_ox = np.array([table_value(table, "CYSS", a) if c == "CYS" else np.nan
-                        for c, a in zip(comp, atom_id)])
+    seen: dict = {}                       # one table lookup per distinct (residue, atom)
+
+    def value(c, a):
+        k = (c, a)
+        if k not in seen:
+            seen[k] = table_value(table, c, a)
+        return seen[k]
+
+    pairs = list(zip(comp.tolist(), [str(a) for a in atom_id.tolist()]))
+    base = np.array([value(c, a) for c, a in pairs]) if pairs else np.zeros(0)
+    base_ox = (np.array([value("CYSS", a) if c == "CYS" else np.nan for c, a in pairs]) if pairs
+               else np.zeros(0))
     out = np.broadcast_to(base, (ens.n_models, base.size)).copy()
     ss = disulfide_mask(ens, table)[:, res_index]
     out = np.where(ss & np.isfinite(base_ox), base_ox, out)

@@ -31,6 +31,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 from ..datafiles import load_data
 from ..defaults import RING_MODELS
+from ._fast import hm_ring_kernel, numba_enabled
 from .rings import RING_TYPES, find_rings, ring_frames
 
 if TYPE_CHECKING:
@@ -193,9 +194,14 @@ def ring_current_factors(ens: Ensemble, targets: np.ndarray, model: str = "haigh
     t_res[have] = np.asarray(ens.atom_res)[targets[have]]
     out: dict[str, np.ndarray] = {}
     flat_tx = tx.reshape(-1, 3)
+    compiled = model == "haigh-mallion" and numba_enabled()
     for rt in RING_TYPES:
         acc = np.zeros(n_models * n_t)
         rs = rings.get(rt)
+        if compiled and rs is not None and rs.n_rings and n_t:   # optional numba; below: the reference
+            area0, edge = _hm_parts(rs)
+            out[rt] = hm_ring_kernel(tx, t_res, rs.centre, rs.res_index, rs.valid, area0, edge, rs.xyz, cutoff)
+            continue
         if rs is not None and rs.n_rings and n_t:
             centre = np.where(rs.valid[..., None], rs.centre, np.nan)
             ft, fr = _ring_pairs(tx, centre, t_res, rs.res_index, cutoff)
@@ -241,6 +247,17 @@ def _flat(a):
     return a.reshape((-1,) + a.shape[2:])
 
 
+def _hm_parts(rs):
+    """Per-ring-edge parts of the Haigh–Mallion factor (see :func:`_hm_kernel`): ``A_jk``
+    (n_models, n_rings, k) and ``E_jk`` (n_models, n_rings, k, 3)."""
+    n = rs.normal / np.linalg.norm(rs.normal, axis=-1, keepdims=True)
+    u = rs.xyz - rs.centre[..., None, :]
+    u_next = np.roll(u, -1, axis=-2)
+    area0 = 0.5 * np.einsum("mrkd,mrd->mrk", np.cross(u, u_next), n)
+    edge = 0.5 * np.cross(u - u_next, n[..., None, :])
+    return area0, edge
+
+
 def _hm_kernel(rs):
     """Haigh–Mallion factor of (point, ring) pairs with the per-ring parts computed once.
 
@@ -250,11 +267,8 @@ def _hm_kernel(rs):
     so only the scalar ``A_jk`` and the vector ``E_jk`` are stored per ring edge and each pair
     costs a dot product per edge. Equal to :func:`haigh_mallion` up to rounding.
     """
-    n = rs.normal / np.linalg.norm(rs.normal, axis=-1, keepdims=True)
-    u = rs.xyz - rs.centre[..., None, :]
-    u_next = np.roll(u, -1, axis=-2)
-    area0 = _flat(0.5 * np.einsum("mrkd,mrd->mrk", np.cross(u, u_next), n))
-    edge = _flat(0.5 * np.cross(u - u_next, n[..., None, :]))
+    area0, edge = _hm_parts(rs)
+    area0, edge = _flat(area0), _flat(edge)
     centre, xyz = _flat(rs.centre), _flat(rs.xyz)
 
     def kernel(p, j):

@@ -50,10 +50,13 @@ def offset(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     m = sf.ens.n_models
     t = sf.targets
     cols = {"const": np.ones((m, sel.size))}
-    keys = np.array([_residue_key(str(c), str(a), nucleus) for c, a in zip(t.comp_id[sel], t.atom_id[sel])],
-                    dtype=object)
-    for k in np.unique(keys) if keys.size else []:
-        cols[f"res:{k}"] = np.broadcast_to((keys == k).astype(float), (m, sel.size))
+    seen: dict = {}                       # one key per distinct (residue, atom)
+    keys = np.array([seen[ca] if ca in seen else seen.setdefault(ca, _residue_key(*ca, nucleus))
+                     for ca in zip(map(str, t.comp_id[sel]), map(str, t.atom_id[sel]))], dtype=object)
+    if keys.size:
+        kinds, which = np.unique(keys, return_inverse=True)
+        for i, k in enumerate(kinds):
+            cols[f"res:{k}"] = np.broadcast_to((which == i).astype(float), (m, sel.size))
     return cols
 
 

@@ -19,6 +19,7 @@ import numpy as np
 
 from .. import __version__
 from ..chem.nuclei import ALL_CLASSES, BACKBONE
+from ._csv_bytes import _fixed_bytes, _join_fields, _string_bytes
 
 if TYPE_CHECKING:
     from ..score.scoring import ScoreResult
@@ -68,21 +69,40 @@ def _atomic_write(path: Path, text: str) -> None:
     atomic_write_text(path, text)
 
 
+def _nums(values, nd: int = 4) -> list:
+    """:func:`_num` of every element (one C-level pass: ``round`` of Python floats)."""
+    a = np.asarray(values, dtype=float).reshape(-1)
+    out = list(map(round, a.tolist(), itertools.repeat(nd)))
+    if not np.isfinite(a).all():
+        for i in np.flatnonzero(~np.isfinite(a)).tolist():
+            out[i] = None
+    return out
+
+
 def ranking_rows(res: ScoreResult) -> list[dict]:
     """One dict per entry, best first, with the ranking.csv columns."""
     from ..structure.quality import result_geometry
 
     rk, comp = res.ranking, res.comparison
     geo = result_geometry(res)
+    order = [int(i) for i in rk.order]
+    rank = [int(x) for x in np.asarray(rk.rank)[order]]
+    score, low, high, p_best = (_nums(np.asarray(v)[order]) for v in (rk.score, rk.low, rk.high, rk.p_best))
+    best = [bool(x) for x in np.asarray(rk.best_group)[order]]
+    per_class = []
+    for x in ALL_CLASSES:
+        m = res.metrics[x]
+        per_class.append((x, _nums(np.asarray(m["rmsd"])[order]), _nums(np.asarray(m["mad"])[order]),
+                          _nums(np.asarray(m["r"])[order]), int(m["n"])))
     rows = []
-    for i in rk.order:
-        row = {"rank": int(rk.rank[i]), "model": comp.entries[i].name, "score": _num(rk.score[i]),
-               "score_low": _num(rk.low[i]), "score_high": _num(rk.high[i]),
-               "p_best": _num(rk.p_best[i]), "best_group": bool(rk.best_group[i])}
-        for x in ALL_CLASSES:
-            m = res.metrics[x]
-            row.update({f"rmsd_{x}": _num(m["rmsd"][i]), f"mad_{x}": _num(m["mad"][i]),
-                        f"r_{x}": _num(m["r"][i]), f"n_{x}": int(m["n"])})
+    for k, i in enumerate(order):
+        row = {"rank": rank[k], "model": comp.entries[i].name, "score": score[k],
+               "score_low": low[k], "score_high": high[k], "p_best": p_best[k], "best_group": best[k]}
+        for x, rmsd, mad, r, n in per_class:
+            row[f"rmsd_{x}"] = rmsd[k]
+            row[f"mad_{x}"] = mad[k]
+            row[f"r_{x}"] = r[k]
+            row[f"n_{x}"] = n
         g = geo.get(comp.entries[i].name)          # name#mean entries have no geometry
         row.update({k: (g[k] if g else None) for k in _GEOMETRY})
         row["geometry_warning"] = bool(g["bad"]) if g else None
@@ -112,22 +132,6 @@ def residue_rows(res: ScoreResult):
                    "model_res": model_res.get((entry.ensemble, int(comp.seq_id[j])), "")}
 
 
-def _text(values, nd: int | None = None) -> list[str]:
-    """Column of CSV fields: ``str(round(x, nd))`` of finite numbers, '' otherwise (as :func:`_num`).
-
-    Python's ``round`` (correctly rounded, unlike numpy's) and ``repr`` keep the bytes identical
-    to the row-wise writer; both run as C-level ``map`` loops over the whole column.
-    """
-    a = np.asarray(values, dtype=float)
-    ok = np.isfinite(a)
-    vals = a.tolist()
-    out = list(map(repr, map(round, vals, itertools.repeat(nd)))) if nd is not None else list(map(repr, vals))
-    if not ok.all():
-        for i in np.flatnonzero(~ok).tolist():
-            out[i] = ""
-    return out
-
-
 def _quote(field: str) -> str:
     """csv.QUOTE_MINIMAL for one field (delimiter, quote character or line break inside)."""
     if any(c in field for c in ',"\r\n'):
@@ -135,43 +139,61 @@ def _quote(field: str) -> str:
     return field
 
 
+def _quoted(col: list[str]) -> list[str]:
+    if any(ch in "".join(set(col)) for ch in ',"\r\n'):
+        return [_quote(x) for x in col]
+    return col
+
+
 def _residues_blocks(res, block: int = 256):
-    """residues.csv text in blocks of ``block`` entries (same bytes as ``_csv(residue_rows(res),
-    ...)``, built column by column), so a run of many models is written without holding it all."""
+    """residues.csv text in blocks of ``block`` entries (same text as ``_csv(residue_rows(res),
+    ...)``); see :func:`_residues_bytes`."""
+    for b in _residues_bytes(res, block):
+        yield b.decode("utf-8")
+
+
+def _residues_bytes(res, block: int = 256):
+    """residues.csv as UTF-8 bytes in blocks of ``block`` entries (same bytes as
+    ``_csv(residue_rows(res), ...)``), built column by column as byte matrices
+    (:func:`_fixed_bytes`), so a run of many models is written without holding it all."""
     comp = res.comparison
     n, n_e = len(comp), len(comp.entries)
     corr = res.correction
     klass = np.asarray(res.outliers.klass, dtype=object)
     per_atom = {
-        "seq_id": [str(int(x)) for x in comp.seq_id], "comp_id": [str(x) for x in comp.comp_id],
-        "atom_id": [str(x) for x in comp.atom_id], "nucleus": [str(x) for x in comp.nucleus],
-        "measured": _text(comp.measured, 4), "offset": _text(corr, 4)}
-    some = np.array([(k or "some") for k in klass], dtype=object) if n else np.zeros(0, object)
-    own: dict[int, list[str]] = {}
-    shared: dict[tuple, list[str]] = {}           # decoy files share their residue labels
+        "seq_id": _string_bytes([str(int(x)) for x in comp.seq_id]),
+        "comp_id": _string_bytes(_quoted([str(x) for x in comp.comp_id])),
+        "atom_id": _string_bytes(_quoted([str(x) for x in comp.atom_id])),
+        "nucleus": _string_bytes(_quoted([str(x) for x in comp.nucleus])),
+        "measured": _fixed_bytes(comp.measured, 4), "offset": _fixed_bytes(corr, 4)}
+    some = _quoted([(k or "some") for k in klass]) if n else []
+    flag_on = _string_bytes(some)
+    own: dict[int, int] = {}                      # ensemble -> its row of residue labels
+    shared: dict[tuple, int] = {}                 # decoy files share their residue labels
     for ei, (ens, mp) in enumerate(zip(res.ensembles, res.mappings)):
         lab = {int(sid): f"{ens.res_seq[r]}{ens.res_icode[r]}" for sid, r in mp.seq_to_res.items()}
         key = tuple(lab.get(int(sid), "") for sid in comp.seq_id)
-        own[ei] = shared.setdefault(key, list(key))
-    yield ",".join(RESIDUE_COLUMNS) + "\n"
+        own[ei] = shared.setdefault(key, len(shared))
+    labels = [_string_bytes(_quoted(list(key))) for key in shared] + [np.zeros((n, 0), np.uint8)]
+    w = max(x.shape[1] for x in labels)
+    labels = np.stack([np.pad(x, ((0, 0), (0, w - x.shape[1]))) for x in labels])   # (labels, n, w)
+    yield (",".join(RESIDUE_COLUMNS) + "\n").encode("utf-8")
     if not n:
         return
     for a in range(0, n_e, block):
         ents = comp.entries[a:a + block]
         k = len(ents)
-        cols: dict[str, list[str]] = {c: v * k for c, v in per_atom.items()}
-        cols["model"] = [x for e in ents for x in [e.name] * n]
-        cols["chain"] = [x for e in ents for x in [e.chain] * n]
-        cols["predicted"] = _text(np.asarray(comp.predicted[a:a + k]).reshape(-1), 4)
-        cols["residual"] = _text(res.residual_rows(a, a + k).reshape(-1), 4)
-        cols["z"] = _text(res.z_rows(a, a + k).reshape(-1), 3)
-        flagged = np.asarray(res.outliers.flagged[a:a + k], dtype=bool)
-        cols["flag"] = np.where(flagged, some[None, :], "").reshape(-1).tolist()
-        cols["model_res"] = [x for e in ents for x in own.get(e.ensemble, [""] * n)]
-        for c in ("model", "chain", "comp_id", "atom_id", "nucleus", "flag", "model_res"):
-            if any(ch in "".join(set(cols[c])) for ch in ',"\r\n'):
-                cols[c] = [_quote(x) for x in cols[c]]
-        yield "\n".join(map(",".join, zip(*(cols[c] for c in RESIDUE_COLUMNS)))) + "\n"
+        cols: dict[str, np.ndarray] = {c: np.tile(v, (k, 1)) for c, v in per_atom.items()}
+        cols["model"] = np.repeat(_string_bytes(_quoted([e.name for e in ents])), n, axis=0)
+        cols["chain"] = np.repeat(_string_bytes(_quoted([e.chain for e in ents])), n, axis=0)
+        cols["predicted"] = _fixed_bytes(comp.predicted[a:a + k], 4)
+        cols["residual"] = _fixed_bytes(res.residual_rows(a, a + k), 4)
+        cols["z"] = _fixed_bytes(res.z_rows(a, a + k), 3)
+        flagged = np.asarray(res.outliers.flagged[a:a + k], dtype=bool).reshape(-1)
+        cols["flag"] = np.tile(flag_on, (k, 1)) * flagged[:, None].astype(np.uint8)
+        which = [own.get(e.ensemble, len(labels) - 1) for e in ents]
+        cols["model_res"] = labels[which].reshape(k * n, -1)
+        yield _join_fields([cols[c] for c in RESIDUE_COLUMNS])
 
 
 def _residues_csv(res) -> str:
@@ -188,16 +210,19 @@ def _csv(rows, columns) -> str:
     return buf.getvalue()
 
 
-def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
-    """The summary.json content (keys documented in docs/outputs.md)."""
+def summary_dict(res: ScoreResult, created: str | None = None, *, rows: list[dict] | None = None,
+                 hashes: dict | None = None) -> dict:
+    """The summary.json content (keys documented in docs/outputs.md). ``rows``: the result's
+    :func:`ranking_rows` and ``hashes``: {path: :func:`sha256`} of input files, when already made."""
     comp, rk = res.comparison, res.ranking
     shifts = res.shifts
-    inputs = {"shifts": {"path": str(Path(shifts.source).absolute()), "sha256": sha256(shifts.source),
+    digest = sha256 if hashes is None else (lambda p: hashes[p] if p in hashes else sha256(p))
+    inputs = {"shifts": {"path": str(Path(shifts.source).absolute()), "sha256": digest(shifts.source),
                          "list_id": shifts.list_id, "list_name": shifts.list_name,
                          "entity_id": shifts.entity_id},
               "models": [{"path": [str(Path(s).absolute()) for s in ens.sources][0] if ens.sources else "",
                           "paths": [str(Path(s).absolute()) for s in ens.sources],
-                          "sha256": [sha256(s) for s in ens.sources][0] if ens.sources else None,
+                          "sha256": digest(ens.sources[0]) if ens.sources else None,
                           "name": ens.name, "chain": ens.chain_id, "n_models": ens.n_models,
                           "model_names": list(ens.model_names), "method": ens.method,
                           "hydrogens_built": _n_built(ens)}
@@ -207,12 +232,13 @@ def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
                 "mismatches": [list(x) for x in m.mismatches], "numbering": m.numbering}
                for ens, m in zip(res.ensembles, res.mappings)]
     metrics = {}
+    per_class = [(x, _nums(res.metrics[x]["rmsd"]), _nums(res.metrics[x]["mad"]), _nums(res.metrics[x]["r"]),
+                  int(res.metrics[x]["n"])) for x in ALL_CLASSES]
     for i, entry in enumerate(comp.entries):
-        metrics[entry.name] = {x: {"rmsd": _num(res.metrics[x]["rmsd"][i]), "mad": _num(res.metrics[x]["mad"][i]),
-                                   "r": _num(res.metrics[x]["r"][i]), "n": int(res.metrics[x]["n"])}
-                               for x in ALL_CLASSES}
+        metrics[entry.name] = {x: {"rmsd": rmsd[i], "mad": mad[i], "r": r[i], "n": n}
+                               for x, rmsd, mad, r, n in per_class}
     ranking = [{k: r[k] for k in ("rank", "model", "score", "score_low", "score_high", "p_best",
-                                  "best_group")} for r in ranking_rows(res)]
+                                  "best_group")} for r in (ranking_rows(res) if rows is None else rows)]
     corr = res.correction
     flags = []
     listed = rk.order[:FLAG_ENTRIES]
@@ -293,12 +319,21 @@ def write_tables(res: ScoreResult, outdir: str | os.PathLike) -> list[Path]:
     out = Path(outdir)
     out.mkdir(parents=True, exist_ok=True)
     paths = [out / "ranking.csv", out / "residues.csv", out / "summary.json"]
-    _atomic_write(paths[0], _csv(ranking_rows(res), RANKING_COLUMNS))
+    from concurrent.futures import ThreadPoolExecutor
+
     from .atomic import atomic_target
 
-    with atomic_target(paths[1]) as tmp, open(tmp, "w", encoding="utf-8", newline="") as fh:
-        for text in _residues_blocks(res):
-            fh.write(text)
-    _atomic_write(paths[2], json.dumps(summary_dict(res), indent=1, allow_nan=False,
-                                                default=_json_default) + "\n")
+    # the input files' checksums (summary.json) are computed while the tables are formatted
+    # (hashlib releases the GIL on large buffers)
+    sources = list(dict.fromkeys([res.shifts.source] + [e.sources[0] for e in res.ensembles if e.sources]))
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        digests = pool.map(sha256, sources)
+        rows = ranking_rows(res)
+        _atomic_write(paths[0], _csv(rows, RANKING_COLUMNS))
+        with atomic_target(paths[1]) as tmp, open(tmp, "wb") as fh:
+            for data in _residues_bytes(res):
+                fh.write(data)
+        hashes = dict(zip(sources, digests))
+    _atomic_write(paths[2], json.dumps(summary_dict(res, rows=rows, hashes=hashes), indent=1, allow_nan=False,
+                                       default=_json_default) + "\n")
     return paths

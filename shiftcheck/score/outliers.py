@@ -51,12 +51,13 @@ def residue_summary(comp, z: np.ndarray, out: Outliers, best: int) -> list[dict]
     """
     rows = []
     is_mean = comp.is_mean
+    models = out.flagged[~is_mean] if (~is_mean).any() else out.flagged
     for r in range(comp.n_residues):
         s = comp.residue == r
         zb = z[best, s]
         atoms = comp.atom_id[s]
         kl = out.klass[s]
-        fl = out.flagged[~is_mean][:, s] if (~is_mean).any() else out.flagged[:, s]
+        fl = models[:, s]
         rows.append({
             "seq_id": int(comp.seq_id[s][0]), "comp_id": str(comp.comp_id[s][0]),
             "n_atoms": int(s.sum()),

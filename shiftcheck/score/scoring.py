@@ -93,7 +93,14 @@ class ScoreResult(ScoreTables):
     @property
     def correction(self) -> np.ndarray:
         """Offset subtracted from each measured shift (n,)."""
-        return np.array([self.offsets[i].correction for i in self.comparison.isotope], dtype=float)
+        iso = self.comparison.isotope
+        got = self.__dict__.get("_isotope_index")
+        if got is None or got[0] is not iso:           # isotope kinds and each atom's kind, once
+            kinds: dict = {}
+            which = np.array([kinds.setdefault(i, len(kinds)) for i in iso], dtype=np.int64)
+            got = (iso, list(kinds), which)
+            self.__dict__["_isotope_index"] = got
+        return np.array([self.offsets[i].correction for i in got[1]], dtype=float)[got[2]]
 
 
 def expected_errors(params: dict | None) -> tuple[dict[str, float], str]:

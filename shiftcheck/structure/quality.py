@@ -49,6 +49,20 @@ def constants() -> dict:
     return _constants()
 
 
+def _topology_value(ens, key: tuple, compute):
+    """``compute()`` once per topology (residue and atom names, elements): kept with the
+    ensemble's shared name lookups (:meth:`Ensemble._cache`), so the files and the model runs
+    of one decoy set reuse it."""
+    c = ens._cache().setdefault("quality", {})
+    names, el = np.asarray(ens.res_name).astype(str), np.asarray(ens.element).astype(str)
+    full = key + (names.dtype.str, names.tobytes(), el.dtype.str, el.tobytes())
+    if full not in c:
+        if len(c) >= 64:
+            c.clear()
+        c[full] = compute()
+    return c[full]
+
+
 def _heavy(ens) -> np.ndarray:
     el = np.char.upper(ens.element.astype(str))
     return (el != "H") & (el != "D")
@@ -100,12 +114,21 @@ def bonded_within(ens, n_bonds: int | None = None) -> sparse.csr_matrix:
     """
     c = constants()
     n_bonds = int(c["bond_exclusion"]["value"]) if n_bonds is None else n_bonds
-    i, j = _topology_bonds(ens)
     sg = (ens.atom_name.astype(str) == "SG")
+    si = sj = np.zeros(0, np.int64)
     if sg.sum() > 1:
         ok = np.isfinite(ens.coords).all(axis=-1) & sg[None, :]
         _, si, sj = _stack_pairs(ens.coords, ok, float(c["disulfide_max"]["value"]))
-        i, j = np.concatenate([i, si]), np.concatenate([j, sj])
+        if si.size:                                  # each bonded pair once (found in every model)
+            si, sj = np.unique(np.stack([si, sj], axis=1), axis=0).T
+    # the same topology and disulfides give the same matrix (kept per topology)
+    key = ("bonded", n_bonds, np.asarray(si, np.int64).tobytes(), np.asarray(sj, np.int64).tobytes())
+    return _topology_value(ens, key, lambda: _bonded_matrix(ens, si, sj, n_bonds)).copy()
+
+
+def _bonded_matrix(ens, si, sj, n_bonds: int) -> sparse.csr_matrix:
+    i, j = _topology_bonds(ens)
+    i, j = np.concatenate([i, si]), np.concatenate([j, sj])
     n = ens.n_atoms
     A = sparse.coo_matrix((np.ones(i.size), (i, j)), shape=(n, n)).tocsr()
     A = ((A + A.T + sparse.identity(n, format="csr")) > 0).astype(np.float64)
@@ -127,7 +150,8 @@ def clash_pairs(ens) -> dict[str, np.ndarray]:
     radii = c["vdw_radius"]
     default = float(c["vdw_radius_default"]["value"])
     el = np.char.upper(ens.element.astype(str))
-    rad = np.array([float(radii.get(e.capitalize(), radii.get(e, default))) for e in el])
+    rad = _topology_value(ens, ("radii",), lambda: np.array(
+        [float(radii.get(e.capitalize(), radii.get(e, default))) for e in el]))
     overlap = float(c["clash_overlap"]["value"])
     rmax = 2 * float(rad[heavy].max() if heavy.any() else default) - overlap
     m, i, j = _stack_pairs(ens.coords, ok, rmax)
