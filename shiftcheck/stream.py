@@ -26,10 +26,11 @@ import numpy as np
 
 from .errors import ShiftcheckError
 
-__all__ = ["Task", "Context", "TaskResult", "ModelInfo", "plan_tasks", "run_task", "score_stream",
-           "DEFAULT_MODELS_PER_TASK", "describe_params"]
+__all__ = ["Task", "Context", "TaskResult", "ModelInfo", "plan_tasks", "group_tasks", "run_task",
+           "run_group", "score_stream", "DEFAULT_MODELS_PER_TASK", "describe_params"]
 
-#: Models of a multi-model file read together by one task (their coordinates are held at once).
+#: Models read together by one task (their coordinates are held at once): a run of MODEL records
+#: of a large file, or several consecutive small files (up to this many models and files).
 DEFAULT_MODELS_PER_TASK = 50
 
 
@@ -44,6 +45,7 @@ class Task:
     part: int = 0
     body: tuple[int, int] | None = None
     head: int = 0
+    n_models: int = 1                 # MODEL records found by the scan (1: none found, or not scanned)
 
 
 @dataclass
@@ -171,12 +173,39 @@ def plan_tasks(paths, models_per_task: int = DEFAULT_MODELS_PER_TASK) -> list[Ta
             except OSError:
                 spans = []
         if len(spans) <= models_per_task:
-            tasks.append(Task(i, p, lab))
+            tasks.append(Task(i, p, lab, n_models=max(1, len(spans))))
             continue
         for k in range(0, len(spans), models_per_task):
             chunk = spans[k:k + models_per_task]
-            tasks.append(Task(i, p, lab, k // models_per_task, (chunk[0][0], chunk[-1][1]), spans[0][0]))
+            tasks.append(Task(i, p, lab, k // models_per_task, (chunk[0][0], chunk[-1][1]), spans[0][0],
+                              len(chunk)))
     return tasks
+
+
+def group_tasks(tasks: list[Task], models_per_task: int = DEFAULT_MODELS_PER_TASK) -> list[tuple[Task, ...]]:
+    """The units sent to the workers: runs of consecutive whole-file tasks with at most
+    ``models_per_task`` models and files together (a decoy set of single-model files is read,
+    mapped and predicted ``models_per_task`` files at a time, so the predictor stacks them:
+    :meth:`~shiftcheck.predict.model.Predictor.predict_many`); a run of MODEL records of a large
+    file is a unit of its own. Input order is kept."""
+    if models_per_task < 1:
+        raise ValueError("models per task must be at least 1")
+    groups: list[tuple[Task, ...]] = []
+    cur: list[Task] = []
+    n = 0
+    for t in tasks:
+        if t.body is not None or (cur and n + t.n_models > models_per_task) or len(cur) >= models_per_task:
+            if cur:
+                groups.append(tuple(cur))
+            cur, n = [], 0
+        if t.body is not None:
+            groups.append((t,))
+            continue
+        cur.append(t)
+        n += t.n_models
+    if cur:
+        groups.append(tuple(cur))
+    return groups
 
 
 def _read(task: Task, chain):
@@ -209,29 +238,111 @@ def _read(task: Task, chain):
 
 
 def run_task(task: Task, ctx: Context) -> TaskResult:
-    """Read, map and predict the models of one task (pure; the worker of every engine)."""
+    """Read, map and predict the models of one task (pure)."""
+    return run_group((task,), ctx)[0]
+
+
+def run_group(tasks, ctx: Context) -> list[TaskResult]:
+    """Read, map and predict the models of a unit of :func:`group_tasks` (pure; the worker of
+    every engine): one :class:`TaskResult` per task, in order. The files' ensembles are predicted
+    together (:meth:`~shiftcheck.predict.model.Predictor.predict_many`: stack-compatible files
+    share the per-topology work; the numbers equal one prediction per file exactly)."""
     from .isolation import _fail, map_models_tolerant
     from .predict.plausibility import implausible_predictions
-    from .structure.quality import geometry_summary
-    from .score.comparison import project
     from .score.datacheck import model_states
     from .score.scoring import secondary_structure
 
-    try:
-        ens = _read(task, ctx.chain)
-    except ShiftcheckError as exc:
-        return TaskResult(task, _fail(exc, task.path, False), "read")
-    kept, maps, skipped = map_models_tolerant(ctx.shifts, [ens], ctx.min_identity)
-    if skipped:
-        return TaskResult(task, skipped[0], "map")
-    mp = maps[0]
-    pred = ctx.predictor().predict(ens, ctx.shifts.conditions)
-    info = ModelInfo(ens.name, list(ens.sources), list(ens.model_names), ens.chain_id, ens.res_seq,
-                     ens.res_icode, ens.res_name, ens.method, list(ens.warnings), int(np.sum(ens.built)))
-    return TaskResult(task, info=info, mapping=mp, projected=project(ctx.rows, ens, mp, pred),
-                      secondary=secondary_structure([ens], [mp]),
-                      states=model_states(ctx.findings, [ens], [mp]),
-                      pred_warnings=implausible_predictions(pred), geometry=geometry_summary(ens))
+    out: list[TaskResult | None] = [None] * len(tasks)
+    todo = []
+    for k, task in enumerate(tasks):
+        try:
+            ens = _read(task, ctx.chain)
+        except ShiftcheckError as exc:
+            out[k] = TaskResult(task, _fail(exc, task.path, False), "read")
+            continue
+        kept, maps, skipped = map_models_tolerant(ctx.shifts, [ens], ctx.min_identity)
+        if skipped:
+            out[k] = TaskResult(task, skipped[0], "map")
+            continue
+        todo.append((k, ens, maps[0]))
+    ensembles = [ens for _, ens, _ in todo]
+    preds = ctx.predictor().predict_many(ensembles, ctx.shifts.conditions) if todo else []
+    geometry = _geometry_many(ensembles)
+    plans: dict = {}
+    for (k, ens, mp), pred, geo in zip(todo, preds, geometry):
+        info = ModelInfo(ens.name, list(ens.sources), list(ens.model_names), ens.chain_id, ens.res_seq,
+                         ens.res_icode, ens.res_name, ens.method, list(ens.warnings), int(np.sum(ens.built)))
+        out[k] = TaskResult(tasks[k], info=info, mapping=mp, projected=_project(ctx.rows, ens, mp, pred, plans),
+                            secondary=secondary_structure([ens], [mp]),
+                            states=model_states(ctx.findings, [ens], [mp]),
+                            pred_warnings=implausible_predictions(pred), geometry=geo)
+    return out
+
+
+def _project(ck, ens, mp, pred, plans: dict):
+    """:func:`shiftcheck.score.comparison.project` with its per-row means done per member count
+    at once (the same numbers: each row's mean is over the same members, summed in the same
+    order); the plan (which prediction columns feed which row) is shared by files of one
+    topology and mapping."""
+    from .score.comparison import Projected
+
+    key = (mp.identity, tuple(sorted(mp.seq_to_res.items())), ens.res_name.tobytes(),
+           pred.res_index.tobytes(), tuple(pred.atom_id.tolist()))
+    plan = plans.get(key)
+    if plan is None:
+        col = {(int(r), str(a)): j for j, (r, a) in enumerate(zip(pred.res_index, pred.atom_id))}
+        why = np.zeros(len(ck.keys), dtype=np.uint8)
+        by_size: dict[int, tuple[list, list]] = {}
+        for i, ((sid, g), c, mem) in enumerate(zip(ck.keys, ck.comp, ck.members)):
+            res = mp.seq_to_res.get(sid)
+            if res is None:
+                why[i] = 1
+                continue
+            if str(ens.res_name[res]) != c:
+                why[i] = 2
+                continue
+            js = [col[(res, m)] for m in mem if (res, m) in col]
+            if not js:
+                why[i] = 3
+                continue
+            rows, cols = by_size.setdefault(len(js), ([], []))
+            rows.append(i)
+            cols.append(js)
+        plan = plans[key] = (why, [(np.array(r), np.array(c)) for _, (r, c) in sorted(by_size.items())])
+    why, groups = plan
+    vals = np.full((pred.n_models, len(ck.keys)), np.nan)
+    with np.errstate(invalid="ignore"):
+        for rows, cols in groups:
+            vals[:, rows] = pred.values[:, cols].mean(axis=2)
+    names = list(pred.model_names) or [f"{ens.name}#{k + 1}" for k in range(pred.n_models)]
+    return Projected([vals], why.copy(), names, ens.chain_id, ens.name)
+
+
+def _geometry_many(ensembles) -> list[list[dict]]:
+    """:func:`shiftcheck.structure.quality.geometry_summary` of each ensemble. Runs of
+    stack-compatible ensembles without two SG atoms are summarised as one stack (every record is
+    computed from its own model and the topology alone; with two SG atoms a disulfide seen in
+    any model joins the bond graph, so those files are summarised one by one)."""
+    from .structure.ensemble import stack_compatible, stack_ensembles
+    from .structure.quality import geometry_summary
+
+    out: list[list[dict]] = []
+    k = 0
+    while k < len(ensembles):
+        group = [ensembles[k]]
+        if int(np.sum(ensembles[k].atom_name.astype(str) == "SG")) < 2:
+            while k + len(group) < len(ensembles) and stack_compatible(group[0], ensembles[k + len(group)]):
+                group.append(ensembles[k + len(group)])
+        k += len(group)
+        if len(group) == 1:
+            out.append(geometry_summary(group[0]))
+            continue
+        recs = geometry_summary(stack_ensembles(group))
+        a = 0
+        for e in group:
+            out.append(recs[a:a + e.n_models])
+            a += e.n_models
+    return out
 
 
 class _Shared:
@@ -249,7 +360,16 @@ class _Shared:
         return self.seen.setdefault(("a", a.dtype.str, a.tobytes()), a)
 
 
-def collect(results: Iterable[TaskResult], n_files: int, strict: bool = False,
+def _flat(results):
+    """Task results from results of tasks and of task groups (lists)."""
+    for r in results:
+        if isinstance(r, TaskResult):
+            yield r
+        else:
+            yield from r
+
+
+def collect(results: Iterable, n_files: int, strict: bool = False,
             progress: Callable[[int, int], None] | None = None):
     """Merge task results (in input order) per file: ``(infos, mappings, projected, secondary,
     states, ensemble warnings, prediction warnings, skipped, geometry by model name)``."""
@@ -260,7 +380,7 @@ def collect(results: Iterable[TaskResult], n_files: int, strict: bool = False,
     pred_warn: list[str] = []
     skipped_read, skipped_map = [], []
     last_file, done = -1, 0
-    for r in results:
+    for r in _flat(results):
         done += 1
         if progress:
             progress(done, None)
@@ -321,17 +441,18 @@ def score_stream(shift_path, model_paths, *, list_id=None, entity_id=None, chain
                   DEFAULT_MIN_IDENTITY if min_identity is None else min_identity, chain,
                   comparison_keys(shifts, (None, None)), findings)
     tasks = plan_tasks(model_paths, models_per_task)
+    groups = group_tasks(tasks, models_per_task)
     n_files = len({t.file for t in tasks})
 
     def tick(done, _):
         if progress:
             progress(done, len(tasks))
 
-    if jobs is not None and jobs > len(tasks):
-        jobs = max(1, len(tasks))                    # no idle processes for a small run
-    with task_mapper(run_task, ctx, jobs=jobs, scheduler=scheduler) as mapper:
+    if jobs is not None and jobs > len(groups):
+        jobs = max(1, len(groups))                   # no idle processes for a small run
+    with task_mapper(run_group, ctx, jobs=jobs, scheduler=scheduler) as mapper:
         infos, maps, proj, secondary, states, ens_warn, pred_warn, skipped, geometry = collect(
-            mapper(tasks), n_files, strict=strict, progress=tick)
+            mapper(groups), n_files, strict=strict, progress=tick)
     if not infos:
         raise no_model_left(skipped)
     if on_models is not None:
