@@ -19,7 +19,7 @@ from __future__ import annotations
 
 import os
 import tempfile
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -345,6 +345,57 @@ def _geometry_many(ensembles) -> list[list[dict]]:
     return out
 
 
+def _exact(v) -> bool:
+    """True when equal values of ``v``'s type are interchangeable (no float inside)."""
+    if v is None or type(v) in (str, int, bool):
+        return True
+    return type(v) is tuple and all(_exact(x) for x in v)
+
+
+class Records(Mapping):
+    """Per-model records (dicts of plain JSON values) kept compactly: each as a tuple of its
+    values, the key tuple, lists (as tuples) and repeated values shared; ``records[name]``
+    gives the dict back (a new one, equal to the record added). About a third of the memory
+    of the dicts for the secondary-structure and geometry records of a run of many models."""
+
+    def __init__(self):
+        self._rows: dict[str, tuple] = {}
+        self._seen: dict = {}
+
+    def _intern(self, v):
+        if isinstance(v, list):
+            v = ("\0list", tuple(self._intern(x) for x in v))
+        elif isinstance(v, dict):
+            return ("\0dict", self._intern(list(v.keys())), self._intern(list(v.values())))
+        if not _exact(v):                            # floats: 0.0 == -0.0, NaN != NaN
+            return v
+        return self._seen.setdefault((type(v), v), v)
+
+    @staticmethod
+    def _value(v):
+        if isinstance(v, tuple) and v and v[0] == "\0list":
+            return [Records._value(x) for x in v[1]]
+        if isinstance(v, tuple) and v and v[0] == "\0dict":
+            return dict(zip(Records._value(v[1]), Records._value(v[2])))
+        return v
+
+    def add(self, name: str, rec: dict) -> None:
+        self._rows[name] = (self._intern(tuple(rec.keys())), tuple(self._intern(v) for v in rec.values()))
+
+    def __getitem__(self, name: str) -> dict:
+        keys, vals = self._rows[name]
+        return {k: self._value(v) for k, v in zip(keys, vals)}
+
+    def __iter__(self):
+        return iter(self._rows)
+
+    def __len__(self) -> int:
+        return len(self._rows)
+
+    def __contains__(self, name) -> bool:
+        return name in self._rows
+
+
 class _Shared:
     """One object per distinct value (mappings and residue tables repeat across decoy files)."""
 
@@ -374,8 +425,8 @@ def collect(results: Iterable, n_files: int, strict: bool = False,
     """Merge task results (in input order) per file: ``(infos, mappings, projected, secondary,
     states, ensemble warnings, prediction warnings, skipped, geometry by model name)``."""
     shared = _Shared()
-    geometry: dict[str, dict] = {}
-    infos, maps, proj, secondary, states = [], [], [], {}, {}
+    geometry, secondary = Records(), Records()
+    infos, maps, proj, states = [], [], [], {}
     ens_warn: list[list[str]] = []
     pred_warn: list[str] = []
     skipped_read, skipped_map = [], []
@@ -391,8 +442,10 @@ def collect(results: Iterable, n_files: int, strict: bool = False,
                 (skipped_read if r.stage == "read" else skipped_map).append(r.skipped)
             last_file = r.task.file
             continue
-        secondary.update(r.secondary)
-        geometry.update((g["model"], g) for g in r.geometry)
+        for name, rec in r.secondary.items():
+            secondary.add(name, rec)
+        for g in r.geometry:
+            geometry.add(g["model"], g)
         for k, v in r.states.items():
             states.setdefault(k, set()).update(v)
         pred_warn += r.pred_warnings

@@ -190,29 +190,42 @@ def _csv(rows, columns) -> str:
 
 def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
     """The summary.json content (keys documented in docs/outputs.md)."""
+    from .summary_json import materialise
+
+    return materialise(summary_document(res, created))
+
+
+def summary_document(res: ScoreResult, created: str | None = None) -> dict:
+    """:func:`summary_dict` with its per-model and per-file parts as
+    :class:`~shiftcheck.report.summary_json.Lazy` values, made item by item as they are written
+    (:func:`~shiftcheck.report.summary_json.write_json`)."""
+    from .summary_json import Lazy
+
     comp, rk = res.comparison, res.ranking
     shifts = res.shifts
     inputs = {"shifts": {"path": str(Path(shifts.source).absolute()), "sha256": sha256(shifts.source),
                          "list_id": shifts.list_id, "list_name": shifts.list_name,
                          "entity_id": shifts.entity_id},
-              "models": [{"path": [str(Path(s).absolute()) for s in ens.sources][0] if ens.sources else "",
-                          "paths": [str(Path(s).absolute()) for s in ens.sources],
-                          "sha256": [sha256(s) for s in ens.sources][0] if ens.sources else None,
-                          "name": ens.name, "chain": ens.chain_id, "n_models": ens.n_models,
-                          "model_names": list(ens.model_names), "method": ens.method,
-                          "hydrogens_built": _n_built(ens)}
-                         for ens in res.ensembles]}
-    mapping = [{"ensemble": ens.name, "chain": ens.chain_id, "identity": _num(m.identity),
-                "coverage": _num(m.coverage), "offsets": "; ".join(m.offsets),
-                "mismatches": [list(x) for x in m.mismatches], "numbering": m.numbering}
-               for ens, m in zip(res.ensembles, res.mappings)]
-    metrics = {}
-    for i, entry in enumerate(comp.entries):
-        metrics[entry.name] = {x: {"rmsd": _num(res.metrics[x]["rmsd"][i]), "mad": _num(res.metrics[x]["mad"][i]),
-                                   "r": _num(res.metrics[x]["r"][i]), "n": int(res.metrics[x]["n"])}
-                               for x in ALL_CLASSES}
-    ranking = [{k: r[k] for k in ("rank", "model", "score", "score_low", "score_high", "p_best",
-                                  "best_group")} for r in ranking_rows(res)]
+              "models": Lazy("list", lambda: (
+                  {"path": [str(Path(s).absolute()) for s in ens.sources][0] if ens.sources else "",
+                   "paths": [str(Path(s).absolute()) for s in ens.sources],
+                   "sha256": [sha256(s) for s in ens.sources][0] if ens.sources else None,
+                   "name": ens.name, "chain": ens.chain_id, "n_models": ens.n_models,
+                   "model_names": list(ens.model_names), "method": ens.method,
+                   "hydrogens_built": _n_built(ens)}
+                  for ens in res.ensembles))}
+    mapping = Lazy("list", lambda: (
+        {"ensemble": ens.name, "chain": ens.chain_id, "identity": _num(m.identity),
+         "coverage": _num(m.coverage), "offsets": "; ".join(m.offsets),
+         "mismatches": [list(x) for x in m.mismatches], "numbering": m.numbering}
+        for ens, m in zip(res.ensembles, res.mappings)))
+    metrics = Lazy("dict", lambda: (
+        (entry.name, {x: {"rmsd": _num(res.metrics[x]["rmsd"][i]), "mad": _num(res.metrics[x]["mad"][i]),
+                          "r": _num(res.metrics[x]["r"][i]), "n": int(res.metrics[x]["n"])}
+                      for x in ALL_CLASSES})
+        for i, entry in enumerate(comp.entries)))
+    ranking = Lazy("list", lambda: ({k: r[k] for k in ("rank", "model", "score", "score_low", "score_high",
+                                                       "p_best", "best_group")} for r in ranking_rows(res)))
     corr = res.correction
     flags = []
     listed = rk.order[:FLAG_ENTRIES]
@@ -253,8 +266,8 @@ def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
                          "has every entry's flag column"},
         "residue_summary": res.residue_summary,
         "data_checks": [f.as_dict() for f in res.findings],
-        "secondary_structure": res.secondary,
-        "geometry": _geometry_records(res),
+        "secondary_structure": Lazy("dict", lambda: iter(res.secondary.items())),
+        "geometry": Lazy("list", lambda: _geometry_records(res)),
         "left_out": left,
         "warnings": list(res.warnings),
         "skipped": [{"file": str(x.file), "reason": str(x.reason)} for x in getattr(res, "skipped", [])],
@@ -262,13 +275,13 @@ def summary_dict(res: ScoreResult, created: str | None = None) -> dict:
     }
 
 
-def _geometry_records(res) -> list[dict]:
+def _geometry_records(res):
     """Per-model geometry records (shiftcheck.structure.quality), in rank order."""
     from ..structure.quality import result_geometry
 
     geo = result_geometry(res)
-    names = [res.comparison.entries[i].name for i in res.ranking.order]
-    return [geo[n] for n in names if n in geo]
+    entries = res.comparison.entries
+    return (geo[entries[i].name] for i in res.ranking.order if entries[i].name in geo)
 
 
 def _json_default(o):
@@ -299,6 +312,8 @@ def write_tables(res: ScoreResult, outdir: str | os.PathLike) -> list[Path]:
     with atomic_target(paths[1]) as tmp, open(tmp, "w", encoding="utf-8", newline="") as fh:
         for text in _residues_blocks(res):
             fh.write(text)
-    _atomic_write(paths[2], json.dumps(summary_dict(res), indent=1, allow_nan=False,
-                                                default=_json_default) + "\n")
+    from .summary_json import write_json
+
+    with atomic_target(paths[2]) as tmp, open(tmp, "w", encoding="utf-8", newline="") as fh:
+        write_json(fh, summary_document(res), default=_json_default)
     return paths
