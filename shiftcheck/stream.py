@@ -1,19 +1,25 @@
 """Streamed scoring: models read, mapped and predicted task by task; only compact results kept.
 
-A *task* is one coordinate file, or a run of consecutive MODEL records of a large multi-model
-PDB file (split as text at its MODEL/ENDMDL records, so the file is never parsed whole). The
-worker :func:`run_task` is pure and picklable: it takes a :class:`Task` (a path and a byte
-range, not coordinates) and the run's :class:`Context`, reads those models, maps the shift list,
-predicts, and returns a :class:`TaskResult`: the predictions on the shift list's comparison rows
-(n_models x n_rows floats), the secondary structure, the model states the data checks need and
-the warnings - no coordinates. :func:`score_stream` collects the results in input order and
-hands them to :func:`shiftcheck.score.scoring.score_comparison`, the step the in-memory path
-uses too, so the numbers are the same whatever the task size, the number of processes or the
-cluster (tests/test_streaming.py).
+A :class:`Task` is one coordinate file, or a run of consecutive MODEL records of a large
+multi-model PDB file (split as text at its MODEL/ENDMDL records, so the file is never parsed
+whole). The unit sent to a worker is a group of tasks (:func:`group_tasks`): consecutive small
+files up to :data:`DEFAULT_MODELS_PER_TASK` models together, so a decoy set of single-model
+files is predicted as model stacks and shares the per-topology work, or one run of MODEL
+records. The worker :func:`run_group` is pure and picklable: it takes the tasks (paths and byte
+ranges, not coordinates) and the run's :class:`Context`, reads those models, maps the shift
+list, predicts, and returns one :class:`TaskResult` per task: the predictions on the shift
+list's comparison rows (n_models x n_rows floats), the secondary structure, the geometry
+records, the model states the data checks need and the warnings - no coordinates.
+:func:`score_stream` collects the results in input order and hands them to
+:func:`shiftcheck.score.scoring.score_comparison`, the step the in-memory path uses too, so
+the numbers are the same whatever the task size, the number of processes or the cluster
+(tests/test_streaming.py).
 
-Memory: what stays per model is its row of predictions (8 bytes x compared atoms, ~5 KB for
-a 78-residue protein) plus its flags (1 byte x atoms); per file, its name and mapping (equal
-mappings and residue tables are shared). See docs/scaling.md for the measured figures.
+Memory: what stays per model is its row of predictions (8 bytes x compared atoms, ~3.5 KB for
+a 78-residue protein) plus its flags (1 byte x atoms), its name and its secondary-structure and
+geometry records (:class:`Records`: tuples with shared keys and values); per file, its name and
+mapping (equal mappings and residue tables are shared). See docs/scaling.md for the measured
+figures.
 """
 from __future__ import annotations
 
@@ -208,13 +214,14 @@ def group_tasks(tasks: list[Task], models_per_task: int = DEFAULT_MODELS_PER_TAS
     return groups
 
 
-def _read(task: Task, chain):
-    """The task's models as one Ensemble (hydrogens built), named as a whole-file read names them."""
+def _read(task: Task, chain, hydrogens: bool = True):
+    """The task's models as one Ensemble (hydrogens built unless ``hydrogens`` is false), named
+    as a whole-file read names them."""
     from .io.coords import read_models
     from .isolation import _relabel
 
     if task.body is None:
-        return _relabel(read_models(task.path, chain=chain)[0], task.label)
+        return _relabel(read_models(task.path, chain=chain, build_hydrogens=hydrogens)[0], task.label)
     with open(task.path, "rb") as fh:
         head = fh.read(task.head)
         fh.seek(task.body[0])
@@ -225,7 +232,7 @@ def _read(task: Task, chain):
         with open(part, "wb") as out:
             out.write(head + body + b"END\n")
         try:
-            ens = read_models(part, chain=chain)[0]
+            ens = read_models(part, chain=chain, build_hydrogens=hydrogens)[0]
         except ShiftcheckError as exc:
             exc.path = task.path if exc.path in (None, part) else exc.path
             raise
@@ -253,12 +260,16 @@ def run_group(tasks, ctx: Context) -> list[TaskResult]:
     from .score.scoring import secondary_structure
 
     out: list[TaskResult | None] = [None] * len(tasks)
-    todo = []
+    read = []
     for k, task in enumerate(tasks):
         try:
-            ens = _read(task, ctx.chain)
+            read.append((k, _read(task, ctx.chain, hydrogens=False)))
         except ShiftcheckError as exc:
             out[k] = TaskResult(task, _fail(exc, task.path, False), "read")
+    todo = []
+    for k, ens in _with_hydrogens(read):
+        if isinstance(ens, ShiftcheckError):
+            out[k] = TaskResult(tasks[k], _fail(ens, tasks[k].path, False), "read")
             continue
         kept, maps, skipped = map_models_tolerant(ctx.shifts, [ens], ctx.min_identity)
         if skipped:
@@ -277,6 +288,25 @@ def run_group(tasks, ctx: Context) -> list[TaskResult]:
                             states=model_states(ctx.findings, [ens], [mp]),
                             pred_warnings=implausible_predictions(pred), geometry=geo)
     return out
+
+
+def _with_hydrogens(read: list) -> list:
+    """``(k, ensemble)`` pairs with hydrogens built: files of one topology as one model stack
+    (:func:`~shiftcheck.structure.hydrogens.add_hydrogens_many`, the same atoms and coordinates
+    as one file at a time); should that fail, file by file, a failing file's error in place of
+    its ensemble."""
+    from .structure.hydrogens import add_hydrogens, add_hydrogens_many
+
+    try:
+        return list(zip([k for k, _ in read], add_hydrogens_many([e for _, e in read])))
+    except ShiftcheckError:
+        out = []
+        for k, e in read:
+            try:
+                out.append((k, add_hydrogens(e)))
+            except ShiftcheckError as exc:
+                out.append((k, exc))
+        return out
 
 
 def _project(ck, ens, mp, pred, plans: dict):
