@@ -4,7 +4,10 @@ Models are built from the 20 NMR models of ``this/2k5p.pdb`` (SHIFTCHECK_REALDAT
 directory: COUNT models as one multi-model PDB file and as COUNT single-model files (model k is
 model k mod 20). Each run is a fresh ``python -m shiftcheck score`` subprocess; its peak RSS is
 ``ru_maxrss`` from ``os.wait4`` of that child: the largest of the child and the worker
-processes it reaped (the peak of one process, not the sum over --jobs N processes).
+processes it reaped (the peak of one process, not the sum over --jobs N processes); the
+``score`` process's own peak (its VmHWM, written by the child as it exits) is printed beside it,
+since the workers' peak does not grow with the count and hides the parent's up to a few
+thousand models.
 
     PYTHONPATH=$PWD python benchmarks/bench_scale.py memory 1000 10000 --jobs 2
     PYTHONPATH=$PWD python benchmarks/bench_scale.py speedup 1000
