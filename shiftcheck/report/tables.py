@@ -9,7 +9,6 @@ import datetime as _dt
 import hashlib
 import io
 import itertools
-import json
 import math
 import os
 from pathlib import Path
