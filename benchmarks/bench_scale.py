@@ -4,7 +4,10 @@ Models are built from the 20 NMR models of ``this/2k5p.pdb`` (SHIFTCHECK_REALDAT
 directory: COUNT models as one multi-model PDB file and as COUNT single-model files (model k is
 model k mod 20). Each run is a fresh ``python -m shiftcheck score`` subprocess; its peak RSS is
 ``ru_maxrss`` from ``os.wait4`` of that child: the largest of the child and the worker
-processes it reaped (the peak of one process, not the sum over --jobs N processes).
+processes it reaped (the peak of one process, not the sum over --jobs N processes); the
+``score`` process's own peak (its VmHWM, written by the child as it exits) is printed beside it,
+since the workers' peak does not grow with the count and hides the parent's up to a few
+thousand models.
 
     PYTHONPATH=$PWD python benchmarks/bench_scale.py memory 1000 10000 --jobs 2
     PYTHONPATH=$PWD python benchmarks/bench_scale.py speedup 1000
@@ -66,11 +69,14 @@ def run(shifts: Path, models, out: Path, jobs: int, report: bool = False) -> tup
     """Wall time (s) and peak RSS (MB, largest process) of one score run in a subprocess."""
     listing = out.with_suffix(".list")
     extra = "" if report else "'--no-report', "
+    hwm = out.with_suffix(".hwm")
     cmd = [sys.executable, "-c",
            "import sys; from shiftcheck.cli import main; "
-           "sys.exit(main(['score', sys.argv[1], *open(sys.argv[2]).read().split(), '-o', sys.argv[3], "
-           f"{extra}'--quiet', '--force', '--jobs', sys.argv[4]]))",
-           str(shifts), str(listing), str(out), str(jobs)]
+           "rc = main(['score', sys.argv[1], *open(sys.argv[2]).read().split(), '-o', sys.argv[3], "
+           f"{extra}'--quiet', '--force', '--jobs', sys.argv[4]]); "
+           "open(sys.argv[5], 'w').write([l for l in open('/proc/self/status') if l.startswith('VmHWM')][0]); "
+           "sys.exit(rc)",
+           str(shifts), str(listing), str(out), str(jobs), str(hwm)]
     listing.write_text("\n".join(str(m) for m in models))
     t = time.perf_counter()
     err = out.with_suffix(".err")
@@ -81,12 +87,17 @@ def run(shifts: Path, models, out: Path, jobs: int, report: bool = False) -> tup
     wall = time.perf_counter() - t
     if os.waitstatus_to_exitcode(status) != 0:
         sys.exit(err.read_text()[-2000:])
-    global LAST_CPU
+    global LAST_CPU, LAST_PARENT
     LAST_CPU = usage.ru_utime + usage.ru_stime         # CPU of the child and its reaped workers
+    try:                                               # the score process's own peak (VmHWM)
+        LAST_PARENT = int(hwm.read_text().split()[1]) / 1024.0
+    except (OSError, IndexError, ValueError):
+        LAST_PARENT = float("nan")
     return wall, usage.ru_maxrss / 1024.0
 
 
 LAST_CPU = 0.0
+LAST_PARENT = float("nan")
 
 
 def main(argv=None) -> None:
@@ -115,7 +126,7 @@ def main(argv=None) -> None:
                 wall, peak = run(shifts, models, tmp / f"out_{count}", a.jobs, a.report)
                 print(f"{count:6d} models, {kind:22s} --jobs {a.jobs}"
                       f"{' with report' if a.report else ' --no-report'}: peak RSS {peak:7.1f} MB "
-                      f"(largest process), {wall:7.1f} s ({LAST_CPU:.1f} s CPU), {count / wall:6.1f} models/s; "
+                      f"(largest process; score process {LAST_PARENT:.1f} MB), {wall:7.1f} s ({LAST_CPU:.1f} s CPU), {count / wall:6.1f} models/s; "
                       f"load average {before} before, {load()} after", flush=True)
             else:
                 l0 = load()

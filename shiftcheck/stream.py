@@ -1,113 +1,42 @@
 """Streamed scoring: models read, mapped and predicted task by task; only compact results kept.
 
-A *task* is one coordinate file, or a run of consecutive MODEL records of a large multi-model
-PDB file (split as text at its MODEL/ENDMDL records, so the file is never parsed whole). The
-worker :func:`run_task` is pure and picklable: it takes a :class:`Task` (a path and a byte
-range, not coordinates) and the run's :class:`Context`, reads those models, maps the shift list,
-predicts, and returns a :class:`TaskResult`: the predictions on the shift list's comparison rows
-(n_models x n_rows floats), the secondary structure, the model states the data checks need and
-the warnings - no coordinates. :func:`score_stream` collects the results in input order and
-hands them to :func:`shiftcheck.score.scoring.score_comparison`, the step the in-memory path
-uses too, so the numbers are the same whatever the task size, the number of processes or the
-cluster (tests/test_streaming.py).
+A :class:`Task` is one coordinate file, or a run of consecutive MODEL records of a large
+multi-model PDB file (split as text at its MODEL/ENDMDL records, so the file is never parsed
+whole). The unit sent to a worker is a group of tasks (:func:`group_tasks`): consecutive small
+files up to :data:`DEFAULT_MODELS_PER_TASK` models together, so a decoy set of single-model
+files is predicted as model stacks and shares the per-topology work, or one run of MODEL
+records. The worker :func:`run_group` (in :mod:`shiftcheck.stream_worker`, with the task and
+result types) is pure and picklable: it takes the tasks (paths and byte
+ranges, not coordinates) and the run's :class:`Context`, reads those models, maps the shift
+list, predicts, and returns one :class:`TaskResult` per task: the predictions on the shift
+list's comparison rows (n_models x n_rows floats), the secondary structure, the geometry
+records, the model states the data checks need and the warnings - no coordinates.
+:func:`score_stream` collects the results in input order and hands them to
+:func:`shiftcheck.score.scoring.score_comparison`, the step the in-memory path uses too, so
+the numbers are the same whatever the task size, the number of processes or the cluster
+(tests/test_streaming.py).
 
-Memory: what stays per model is its row of predictions (8 bytes x compared atoms, ~5 KB for
-a 78-residue protein) plus its flags (1 byte x atoms); per file, its name and mapping (equal
-mappings and residue tables are shared). See docs/scaling.md for the measured figures.
+Memory: what stays per model is its row of predictions (8 bytes x compared atoms, ~3.5 KB for
+a 78-residue protein) plus its flags (1 byte x atoms), its name and its secondary-structure and
+geometry records (:class:`Records`: tuples with shared keys and values); per file, its name and
+mapping (equal mappings and residue tables are shared). See docs/scaling.md for the measured
+figures.
 """
 from __future__ import annotations
 
 import os
-import tempfile
-from collections.abc import Callable, Iterable
-from dataclasses import dataclass, field
+from collections.abc import Callable, Iterable, Mapping
 
 import numpy as np
 
-from .errors import ShiftcheckError
+from .stream_worker import Context, ModelInfo, Task, TaskResult, run_group, run_task
 
-__all__ = ["Task", "Context", "TaskResult", "ModelInfo", "plan_tasks", "run_task", "score_stream",
-           "DEFAULT_MODELS_PER_TASK", "describe_params"]
+__all__ = ["Task", "Context", "TaskResult", "ModelInfo", "plan_tasks", "group_tasks", "run_task",
+           "run_group", "score_stream", "DEFAULT_MODELS_PER_TASK", "describe_params"]
 
-#: Models of a multi-model file read together by one task (their coordinates are held at once).
+#: Models read together by one task (their coordinates are held at once): a run of MODEL records
+#: of a large file, or several consecutive small files (up to this many models and files).
 DEFAULT_MODELS_PER_TASK = 50
-
-
-@dataclass(frozen=True)
-class Task:
-    """Models to read: the whole file, or the MODEL records in bytes ``body`` (with the file's
-    header, bytes ``[0, head)`` before its first MODEL record)."""
-
-    file: int
-    path: str
-    label: str
-    part: int = 0
-    body: tuple[int, int] | None = None
-    head: int = 0
-
-
-@dataclass
-class ModelInfo:
-    """What the tables need of an ensemble once its models are scored (no coordinates)."""
-
-    name: str
-    sources: list
-    model_names: list
-    chain_id: str
-    res_seq: np.ndarray
-    res_icode: np.ndarray
-    res_name: np.ndarray
-    method: str
-    warnings: list
-    n_built: int
-
-    @property
-    def n_models(self) -> int:
-        return len(self.model_names)
-
-    @property
-    def n_residues(self) -> int:
-        return int(self.res_name.shape[0])
-
-
-@dataclass
-class Context:
-    """The run's fixed inputs, sent once to each worker."""
-
-    shifts: object
-    params: object
-    ring_model: str | None
-    min_identity: float
-    chain: str | None
-    rows: object                      # comparison.Keys: superset comparison rows
-    findings: list                    # structure-free data checks (for the model states)
-    _predictor: object = field(default=None, repr=False, compare=False)
-
-    def predictor(self):
-        if self._predictor is None:
-            from .predict.model import Predictor
-
-            self._predictor = Predictor(self.params, self.ring_model)
-        return self._predictor
-
-    def __getstate__(self):
-        d = dict(self.__dict__)
-        d["_predictor"] = None
-        return d
-
-
-@dataclass
-class TaskResult:
-    task: Task
-    skipped: object = None            # isolation.Skipped (read or mapping failure)
-    stage: str = ""                   # 'read' or 'map' for a skip
-    info: ModelInfo | None = None
-    mapping: object = None
-    projected: object = None          # comparison.Projected
-    secondary: dict = field(default_factory=dict)
-    states: dict = field(default_factory=dict)
-    pred_warnings: list = field(default_factory=list)
-    geometry: list = field(default_factory=list)      # structure.quality records, one per model
 
 
 _SCAN_CHUNK = 1 << 22     # bytes read at a time when a file is scanned for MODEL records
@@ -171,68 +100,90 @@ def plan_tasks(paths, models_per_task: int = DEFAULT_MODELS_PER_TASK) -> list[Ta
             except OSError:
                 spans = []
         if len(spans) <= models_per_task:
-            tasks.append(Task(i, p, lab))
+            tasks.append(Task(i, p, lab, n_models=max(1, len(spans))))
             continue
         for k in range(0, len(spans), models_per_task):
             chunk = spans[k:k + models_per_task]
-            tasks.append(Task(i, p, lab, k // models_per_task, (chunk[0][0], chunk[-1][1]), spans[0][0]))
+            tasks.append(Task(i, p, lab, k // models_per_task, (chunk[0][0], chunk[-1][1]), spans[0][0],
+                              len(chunk)))
     return tasks
 
 
-def _read(task: Task, chain):
-    """The task's models as one Ensemble (hydrogens built), named as a whole-file read names them."""
-    from .io.coords import read_models
-    from .isolation import _relabel
-
-    if task.body is None:
-        return _relabel(read_models(task.path, chain=chain)[0], task.label)
-    with open(task.path, "rb") as fh:
-        head = fh.read(task.head)
-        fh.seek(task.body[0])
-        body = fh.read(task.body[1] - task.body[0])
-    base = os.path.basename(task.path)
-    with tempfile.TemporaryDirectory(prefix="shiftcheck-") as tmp:
-        part = os.path.join(tmp, base)
-        with open(part, "wb") as out:
-            out.write(head + body + b"END\n")
-        try:
-            ens = read_models(part, chain=chain)[0]
-        except ShiftcheckError as exc:
-            exc.path = task.path if exc.path in (None, part) else exc.path
-            raise
-    if ens.model_names == [base]:        # a one-model run of a larger file? (no line scan otherwise)
-        serials = [ln.split()[1] if len(ln.split()) > 1 else "" for ln in body.splitlines()
-                   if ln.startswith(b"MODEL ")]
-        if len(serials) == 1:
-            ens.model_names = [f"{base}#{serials[0].decode()}"]
-    ens.sources = [task.path]
-    return _relabel(ens, task.label)
+def group_tasks(tasks: list[Task], models_per_task: int = DEFAULT_MODELS_PER_TASK) -> list[tuple[Task, ...]]:
+    """The units sent to the workers: runs of consecutive whole-file tasks with at most
+    ``models_per_task`` models and files together (a decoy set of single-model files is read,
+    mapped and predicted ``models_per_task`` files at a time, so the predictor stacks them:
+    :meth:`~shiftcheck.predict.model.Predictor.predict_many`); a run of MODEL records of a large
+    file is a unit of its own. Input order is kept."""
+    if models_per_task < 1:
+        raise ValueError("models per task must be at least 1")
+    groups: list[tuple[Task, ...]] = []
+    cur: list[Task] = []
+    n = 0
+    for t in tasks:
+        if t.body is not None or (cur and n + t.n_models > models_per_task) or len(cur) >= models_per_task:
+            if cur:
+                groups.append(tuple(cur))
+            cur, n = [], 0
+        if t.body is not None:
+            groups.append((t,))
+            continue
+        cur.append(t)
+        n += t.n_models
+    if cur:
+        groups.append(tuple(cur))
+    return groups
 
 
-def run_task(task: Task, ctx: Context) -> TaskResult:
-    """Read, map and predict the models of one task (pure; the worker of every engine)."""
-    from .isolation import _fail, map_models_tolerant
-    from .predict.plausibility import implausible_predictions
-    from .structure.quality import geometry_summary
-    from .score.comparison import project
-    from .score.datacheck import model_states
-    from .score.scoring import secondary_structure
+def _exact(v) -> bool:
+    """True when equal values of ``v``'s type are interchangeable (no float inside)."""
+    if v is None or type(v) in (str, int, bool):
+        return True
+    return type(v) is tuple and all(_exact(x) for x in v)
 
-    try:
-        ens = _read(task, ctx.chain)
-    except ShiftcheckError as exc:
-        return TaskResult(task, _fail(exc, task.path, False), "read")
-    kept, maps, skipped = map_models_tolerant(ctx.shifts, [ens], ctx.min_identity)
-    if skipped:
-        return TaskResult(task, skipped[0], "map")
-    mp = maps[0]
-    pred = ctx.predictor().predict(ens, ctx.shifts.conditions)
-    info = ModelInfo(ens.name, list(ens.sources), list(ens.model_names), ens.chain_id, ens.res_seq,
-                     ens.res_icode, ens.res_name, ens.method, list(ens.warnings), int(np.sum(ens.built)))
-    return TaskResult(task, info=info, mapping=mp, projected=project(ctx.rows, ens, mp, pred),
-                      secondary=secondary_structure([ens], [mp]),
-                      states=model_states(ctx.findings, [ens], [mp]),
-                      pred_warnings=implausible_predictions(pred), geometry=geometry_summary(ens))
+
+class Records(Mapping):
+    """Per-model records (dicts of plain JSON values) kept compactly: each as a tuple of its
+    values, the key tuple, lists (as tuples) and repeated values shared; ``records[name]``
+    gives the dict back (a new one, equal to the record added). About a third of the memory
+    of the dicts for the secondary-structure and geometry records of a run of many models."""
+
+    def __init__(self):
+        self._rows: dict[str, tuple] = {}
+        self._seen: dict = {}
+
+    def _intern(self, v):
+        if isinstance(v, list):
+            v = ("\0list", tuple(self._intern(x) for x in v))
+        elif isinstance(v, dict):
+            return ("\0dict", self._intern(list(v.keys())), self._intern(list(v.values())))
+        if not _exact(v):                            # floats: 0.0 == -0.0, NaN != NaN
+            return v
+        return self._seen.setdefault((type(v), v), v)
+
+    @staticmethod
+    def _value(v):
+        if isinstance(v, tuple) and v and v[0] == "\0list":
+            return [Records._value(x) for x in v[1]]
+        if isinstance(v, tuple) and v and v[0] == "\0dict":
+            return dict(zip(Records._value(v[1]), Records._value(v[2])))
+        return v
+
+    def add(self, name: str, rec: dict) -> None:
+        self._rows[name] = (self._intern(tuple(rec.keys())), tuple(self._intern(v) for v in rec.values()))
+
+    def __getitem__(self, name: str) -> dict:
+        keys, vals = self._rows[name]
+        return {k: self._value(v) for k, v in zip(keys, vals)}
+
+    def __iter__(self):
+        return iter(self._rows)
+
+    def __len__(self) -> int:
+        return len(self._rows)
+
+    def __contains__(self, name) -> bool:
+        return name in self._rows
 
 
 class _Shared:
@@ -250,18 +201,27 @@ class _Shared:
         return self.seen.setdefault(("a", a.dtype.str, a.tobytes()), a)
 
 
-def collect(results: Iterable[TaskResult], n_files: int, strict: bool = False,
+def _flat(results):
+    """Task results from results of tasks and of task groups (lists)."""
+    for r in results:
+        if isinstance(r, TaskResult):
+            yield r
+        else:
+            yield from r
+
+
+def collect(results: Iterable, n_files: int, strict: bool = False,
             progress: Callable[[int, int], None] | None = None):
     """Merge task results (in input order) per file: ``(infos, mappings, projected, secondary,
     states, ensemble warnings, prediction warnings, skipped, geometry by model name)``."""
     shared = _Shared()
-    geometry: dict[str, dict] = {}
-    infos, maps, proj, secondary, states = [], [], [], {}, {}
+    geometry, secondary = Records(), Records()
+    infos, maps, proj, states = [], [], [], {}
     ens_warn: list[list[str]] = []
     pred_warn: list[str] = []
     skipped_read, skipped_map = [], []
     last_file, done = -1, 0
-    for r in results:
+    for r in _flat(results):
         done += 1
         if progress:
             progress(done, None)
@@ -272,8 +232,10 @@ def collect(results: Iterable[TaskResult], n_files: int, strict: bool = False,
                 (skipped_read if r.stage == "read" else skipped_map).append(r.skipped)
             last_file = r.task.file
             continue
-        secondary.update(r.secondary)
-        geometry.update((g["model"], g) for g in r.geometry)
+        for name, rec in r.secondary.items():
+            secondary.add(name, rec)
+        for g in r.geometry:
+            geometry.add(g["model"], g)
         for k, v in r.states.items():
             states.setdefault(k, set()).update(v)
         pred_warn += r.pred_warnings
@@ -322,17 +284,18 @@ def score_stream(shift_path, model_paths, *, list_id=None, entity_id=None, chain
                   DEFAULT_MIN_IDENTITY if min_identity is None else min_identity, chain,
                   comparison_keys(shifts, (None, None)), findings)
     tasks = plan_tasks(model_paths, models_per_task)
+    groups = group_tasks(tasks, models_per_task)
     n_files = len({t.file for t in tasks})
 
     def tick(done, _):
         if progress:
             progress(done, len(tasks))
 
-    if jobs is not None and jobs > len(tasks):
-        jobs = max(1, len(tasks))                    # no idle processes for a small run
-    with task_mapper(run_task, ctx, jobs=jobs, scheduler=scheduler) as mapper:
+    if jobs is not None and jobs > len(groups):
+        jobs = max(1, len(groups))                   # no idle processes for a small run
+    with task_mapper(run_group, ctx, jobs=jobs, scheduler=scheduler) as mapper:
         infos, maps, proj, secondary, states, ens_warn, pred_warn, skipped, geometry = collect(
-            mapper(tasks), n_files, strict=strict, progress=tick)
+            mapper(groups), n_files, strict=strict, progress=tick)
     if not infos:
         raise no_model_left(skipped)
     if on_models is not None:

@@ -112,3 +112,20 @@ def test_html_says_what_was_summarised(outdir, tmp_path):
     text = " ".join(data["summarised"])
     assert f"embedded for {len(want)} of {N_MODELS} models" in text
     assert f"cover all {N_MODELS} models" in text
+
+
+def test_report_keeps_only_the_drawn_models_summary_parts(outdir):
+    """The summary parts left out while drawing (metrics, other models' secondary structure)
+    change nothing on the page or the opening page: the same data from the whole summary.json."""
+    import dataclasses
+
+    from shiftcheck.report.html_data import page_data
+
+    data = load_outdir(outdir, max_models=N)
+    whole = dataclasses.replace(data, summary=json.loads((outdir / "summary.json").read_text()))
+    assert "metrics" not in data.summary and "metrics" in whole.summary
+    kept = set(data.summary["secondary_structure"])
+    assert kept < set(whole.summary["secondary_structure"])
+    assert {m.split("#")[0] for m in data.drawn} <= {m.split("#")[0] for m in kept}
+    assert page_data(data, max_point_models=N) == page_data(whole, max_point_models=N)
+    assert _lines(data) == _lines(whole)

@@ -19,7 +19,7 @@ from shiftcheck.io.shift_formats import read_shifts
 from shiftcheck.isolation import map_models_tolerant, read_models_tolerant
 from shiftcheck.pipeline import score_files, score_models
 from shiftcheck.report.tables import write_tables
-from shiftcheck.stream import plan_tasks
+from shiftcheck.stream import group_tasks, plan_tasks
 
 pytestmark = pytest.mark.realdata
 
@@ -115,8 +115,29 @@ def test_streamed_multi_model_file_equals_in_memory(sets):
 
 def test_streamed_files_equal_in_memory(sets):
     ref = _in_memory(sets["shifts"], sets["files"])
-    got = score_files(sets["shifts"], sets["files"])
+    got = score_files(sets["shifts"], sets["files"])          # one task of 30 files
     _same_tables(ref, got, sets["tmp"], "files")
+
+
+@pytest.mark.parametrize("per_task", [1, 7])
+def test_files_in_tasks_of_any_size_equal_in_memory(sets, per_task):
+    """Files read, mapped and predicted several to a task (stacked) or one by one give the
+    in-memory tables, a multi-model file among them split into runs of its own."""
+    paths = sets["files"][:10] + [sets["multi"]] + sets["files"][10:16]
+    ref = _in_memory(sets["shifts"], paths)
+    got = score_files(sets["shifts"], paths, models_per_task=per_task)
+    _same_tables(ref, got, sets["tmp"], f"files{per_task}")
+
+
+def test_tasks_grouped_in_input_order_within_the_model_budget(sets):
+    paths = sets["files"][:5] + [sets["multi"]] + sets["files"][5:9]
+    tasks = plan_tasks(paths, models_per_task=3)
+    groups = group_tasks(tasks, models_per_task=3)
+    assert [t for g in groups for t in g] == tasks            # every task once, in order
+    assert all(sum(t.n_models for t in g) <= 3 for g in groups)
+    assert all(len(g) == 1 for g in groups if g[0].body is not None)   # runs of a large file alone
+    assert [len(g) for g in groups if g[0].body is None] == [3, 2, 3, 1]
+    assert tasks[5].n_models == 3 and tasks[-1].n_models == 1
 
 
 def _cli(*args):
@@ -129,8 +150,11 @@ def test_jobs_1_and_2_write_identical_tables(sets):
         r = _cli("score", str(sets["shifts"]), *sets["files"][:12], sets["multi"], "-o", str(out / f"j{n}"),
                  "--no-report", "--quiet", "--jobs", str(n))
         assert r.returncode == 0, r.stderr
-    for name in ("ranking.csv", "residues.csv"):
-        assert filecmp.cmp(out / "j1" / name, out / "j2" / name, shallow=False), name
+    for name in ("ranking.csv", "residues.csv", "summary.json"):
+        a, b = (out / "j1" / name).read_text(), (out / "j2" / name).read_text()
+        if name == "summary.json":                     # the creation time may differ
+            a, b = (json.dumps({**json.loads(x), "created": ""}) for x in (a, b))
+        assert a == b, name
 
 
 def test_jobs_below_one_is_refused(sets):

@@ -145,18 +145,27 @@ def run(args) -> int:
                       reref=args.reref, k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
                       include_mean=not args.no_mean, min_identity=args.min_identity,
                       jobs=args.jobs, scheduler=args.scheduler, progress=_Progress(args.quiet))
-    write_outputs(res, args.outdir, force=args.force, inputs=inputs, report=not args.no_report,
-                  plots=args.plots, show=tuple(args.show))
     as_json = getattr(args, "json", False)
-    if not args.quiet and not as_json:
-        print(console_summary(res, outdir=args.outdir))
+    text = None if args.quiet or as_json else console_summary(res, outdir=args.outdir)
+    held = [res]
+    del res                                              # write_outputs frees it before the report
+    write_outputs(held.pop(), args.outdir, force=args.force, inputs=inputs, report=not args.no_report,
+                  plots=args.plots, show=tuple(args.show), release=True)
+    if text is not None:
+        print(text)
+    if not gates and not as_json:                        # nothing to read back from summary.json
+        return 0
     return finish(args.outdir, gates, as_json=as_json)
 
 
 def write_outputs(res: ScoreResult, outdir: str, *, force: bool, inputs: list, report: bool = True,
-                  plots: str = "png", show: tuple = ()) -> None:
+                  plots: str = "png", show: tuple = (), release: bool = False) -> None:
     """Write the tables, the corrected shift list (when an offset was applied) and the report
-    (PDF/PNG and report.html) of ``res`` into ``outdir`` through a staged directory."""
+    (PDF/PNG and report.html) of ``res`` into ``outdir`` through a staged directory.
+
+    ``release``: the caller holds no other reference to ``res``; it is dropped once the tables
+    are written, before the report (drawn from the written files) is, so the two are not held
+    at once (a run of 10,000 models: see docs/scaling.md)."""
     from ..report.corrected_star import write_corrected_star
     from ..report.outdir import staged_outdir
     from ..report.tables import write_tables
@@ -164,6 +173,11 @@ def write_outputs(res: ScoreResult, outdir: str, *, force: bool, inputs: list, r
     with staged_outdir(outdir, force, inputs) as tmp:
         write_tables(res, tmp)
         write_corrected_star(res, tmp)                   # only when an offset was applied
+        if release:
+            del res
+            import gc
+
+            gc.collect()
         if report:
             from ..report.html import write_html
             from ..report.load import load_outdir

@@ -249,6 +249,25 @@ def _read_residues(path: Path, keep: set | None = None, seen: set | None = None)
                         nucleus=np.array(nuc, dtype=object), offset=offset, **num)
 
 
+def _keep_drawn(summary: dict, keep: set) -> None:
+    """Drop the per-model parts of ``summary`` the report does not draw: ``metrics`` (the report
+    reads ranking.csv) and ``secondary_structure`` of models not drawn (kept: the drawn models and,
+    for a drawn ``name#mean``, the first model of its ensemble, in file order). 10,000 models
+    hold about 40 MB less while the pages are drawn."""
+    summary.pop("metrics", None)
+    ss = summary.get("secondary_structure")
+    if not isinstance(ss, dict):
+        return
+    stems = {m.split("#")[0] for m in keep if m not in ss}
+    out = {}
+    for k, v in ss.items():
+        stem = k.split("#")[0]
+        if k in keep or stem in stems:
+            out[k] = v
+            stems.discard(stem)
+    summary["secondary_structure"] = out
+
+
 def load_outdir(outdir, show=(), max_models: int = MAX_DRAWN_MODELS) -> ReportData:
     """Read ``summary.json``, ``ranking.csv`` and ``residues.csv`` from a score output directory.
 
@@ -293,6 +312,7 @@ def load_outdir(outdir, show=(), max_models: int = MAX_DRAWN_MODELS) -> ReportDa
         residues = _read_residues(outdir / "residues.csv", set(keep), seen)
         have = set(residues.model)
         drawn = [m for m in keep if m in have]
+        _keep_drawn(summary, set(keep))
     else:
         residues = _read_residues(outdir / "residues.csv")
         seen = set(residues.model)

@@ -9,7 +9,6 @@ import datetime as _dt
 import hashlib
 import io
 import itertools
-import json
 import math
 import os
 from pathlib import Path
@@ -214,31 +213,44 @@ def summary_dict(res: ScoreResult, created: str | None = None, *, rows: list[dic
                  hashes: dict | None = None) -> dict:
     """The summary.json content (keys documented in docs/outputs.md). ``rows``: the result's
     :func:`ranking_rows` and ``hashes``: {path: :func:`sha256`} of input files, when already made."""
+    from .summary_json import materialise
+
+    return materialise(summary_document(res, created, rows=rows, hashes=hashes))
+
+
+def summary_document(res: ScoreResult, created: str | None = None, *, rows: list[dict] | None = None,
+                     hashes: dict | None = None) -> dict:
+    """:func:`summary_dict` with its per-model and per-file parts as
+    :class:`~shiftcheck.report.summary_json.Lazy` values, made item by item as they are written
+    (:func:`~shiftcheck.report.summary_json.write_json`)."""
+    from .summary_json import Lazy
+
     comp, rk = res.comparison, res.ranking
     shifts = res.shifts
     digest = sha256 if hashes is None else (lambda p: hashes[p] if p in hashes else sha256(p))
     inputs = {"shifts": {"path": str(Path(shifts.source).absolute()), "sha256": digest(shifts.source),
                          "list_id": shifts.list_id, "list_name": shifts.list_name,
                          "entity_id": shifts.entity_id},
-              "models": [{"path": [str(Path(s).absolute()) for s in ens.sources][0] if ens.sources else "",
-                          "paths": [str(Path(s).absolute()) for s in ens.sources],
-                          "sha256": digest(ens.sources[0]) if ens.sources else None,
-                          "name": ens.name, "chain": ens.chain_id, "n_models": ens.n_models,
-                          "model_names": list(ens.model_names), "method": ens.method,
-                          "hydrogens_built": _n_built(ens)}
-                         for ens in res.ensembles]}
-    mapping = [{"ensemble": ens.name, "chain": ens.chain_id, "identity": _num(m.identity),
-                "coverage": _num(m.coverage), "offsets": "; ".join(m.offsets),
-                "mismatches": [list(x) for x in m.mismatches], "numbering": m.numbering}
-               for ens, m in zip(res.ensembles, res.mappings)]
-    metrics = {}
-    per_class = [(x, _nums(res.metrics[x]["rmsd"]), _nums(res.metrics[x]["mad"]), _nums(res.metrics[x]["r"]),
-                  int(res.metrics[x]["n"])) for x in ALL_CLASSES]
-    for i, entry in enumerate(comp.entries):
-        metrics[entry.name] = {x: {"rmsd": rmsd[i], "mad": mad[i], "r": r[i], "n": n}
-                               for x, rmsd, mad, r, n in per_class}
-    ranking = [{k: r[k] for k in ("rank", "model", "score", "score_low", "score_high", "p_best",
-                                  "best_group")} for r in (ranking_rows(res) if rows is None else rows)]
+              "models": Lazy("list", lambda: (
+                  {"path": [str(Path(s).absolute()) for s in ens.sources][0] if ens.sources else "",
+                   "paths": [str(Path(s).absolute()) for s in ens.sources],
+                   "sha256": digest(ens.sources[0]) if ens.sources else None,
+                   "name": ens.name, "chain": ens.chain_id, "n_models": ens.n_models,
+                   "model_names": list(ens.model_names), "method": ens.method,
+                   "hydrogens_built": _n_built(ens)}
+                  for ens in res.ensembles))}
+    mapping = Lazy("list", lambda: (
+        {"ensemble": ens.name, "chain": ens.chain_id, "identity": _num(m.identity),
+         "coverage": _num(m.coverage), "offsets": "; ".join(m.offsets),
+         "mismatches": [list(x) for x in m.mismatches], "numbering": m.numbering}
+        for ens, m in zip(res.ensembles, res.mappings)))
+    metrics = Lazy("dict", lambda: (
+        (entry.name, {x: {"rmsd": _num(res.metrics[x]["rmsd"][i]), "mad": _num(res.metrics[x]["mad"][i]),
+                          "r": _num(res.metrics[x]["r"][i]), "n": int(res.metrics[x]["n"])}
+                      for x in ALL_CLASSES})
+        for i, entry in enumerate(comp.entries)))
+    ranking = Lazy("list", lambda: ({k: r[k] for k in ("rank", "model", "score", "score_low", "score_high",
+                                                       "p_best", "best_group")} for r in (ranking_rows(res) if rows is None else rows)))
     corr = res.correction
     flags = []
     listed = rk.order[:FLAG_ENTRIES]
@@ -279,8 +291,8 @@ def summary_dict(res: ScoreResult, created: str | None = None, *, rows: list[dic
                          "has every entry's flag column"},
         "residue_summary": res.residue_summary,
         "data_checks": [f.as_dict() for f in res.findings],
-        "secondary_structure": res.secondary,
-        "geometry": _geometry_records(res),
+        "secondary_structure": Lazy("dict", lambda: iter(res.secondary.items())),
+        "geometry": Lazy("list", lambda: _geometry_records(res)),
         "left_out": left,
         "warnings": list(res.warnings),
         "skipped": [{"file": str(x.file), "reason": str(x.reason)} for x in getattr(res, "skipped", [])],
@@ -288,13 +300,13 @@ def summary_dict(res: ScoreResult, created: str | None = None, *, rows: list[dic
     }
 
 
-def _geometry_records(res) -> list[dict]:
+def _geometry_records(res):
     """Per-model geometry records (shiftcheck.structure.quality), in rank order."""
     from ..structure.quality import result_geometry
 
     geo = result_geometry(res)
-    names = [res.comparison.entries[i].name for i in res.ranking.order]
-    return [geo[n] for n in names if n in geo]
+    entries = res.comparison.entries
+    return (geo[entries[i].name] for i in res.ranking.order if entries[i].name in geo)
 
 
 def _json_default(o):
@@ -323,6 +335,8 @@ def write_tables(res: ScoreResult, outdir: str | os.PathLike) -> list[Path]:
 
     from .atomic import atomic_target
 
+    from .summary_json import write_json
+
     # the input files' checksums (summary.json) are computed while the tables are formatted
     # (hashlib releases the GIL on large buffers)
     sources = list(dict.fromkeys([res.shifts.source] + [e.sources[0] for e in res.ensembles if e.sources]))
@@ -334,6 +348,6 @@ def write_tables(res: ScoreResult, outdir: str | os.PathLike) -> list[Path]:
             for data in _residues_bytes(res):
                 fh.write(data)
         hashes = dict(zip(sources, digests))
-    _atomic_write(paths[2], json.dumps(summary_dict(res, rows=rows, hashes=hashes), indent=1, allow_nan=False,
-                                       default=_json_default) + "\n")
+    with atomic_target(paths[2]) as tmp, open(tmp, "w", encoding="utf-8", newline="") as fh:
+        write_json(fh, summary_document(res, rows=rows, hashes=hashes), default=_json_default)
     return paths
