@@ -73,3 +73,41 @@ def test_minimisation_removes_clashes(tmp_path):
     energy = minimise(_pdb_text(bad), tmp_path / "m.pdb", threads=1)
     after = geometry_summary(read_models([tmp_path / "m.pdb"])[0])[0]
     assert np.isfinite(energy) and before > 0 and after["clashes"] < before and after["severe_pairs"] == 0
+
+
+def test_partial_threading_leaves_unmatched_termini_out():
+    target = _protein(["ALA", "GLY", "LEU", "SER", "LYS", "GLU", "ASP", "ARG"], [-63] * 8, [-42] * 8)
+    small = _protein(["VAL"] * 5, [-120] * 5, [130] * 5)
+    bb, term = thread_backbone(target, small, 0, offset=2)
+    assert term == ([], []) and bb.n_residues == 5
+    assert list(bb.res_name) == ["LEU", "SER", "LYS", "GLU", "ASP"]
+    assert list(bb.res_seq) == list(target.res_seq[2:7])
+    for name in ("N", "CA", "C", "O"):
+        assert np.allclose(bb.xyz(np.arange(5), name)[0], small.xyz(np.arange(5), name)[0])
+    with pytest.raises(ValueError):
+        thread_backbone(target, small, 0, offset=4)      # 4 + 5 > 8 residues
+
+
+def test_ladder_noise_changes_every_torsion_by_the_drawn_amount(realdata):
+    """The ladder's candidates carry exactly the phi/psi changes drawn (torsions measured on the
+    rebuilt coordinates by shiftcheck.structure.geometry), their spread scales with sigma, and
+    TM-score to the native falls as sigma grows (real protein: ubiquitin 1UBQ)."""
+    from plausible_decoys import ladder_candidates, load_native
+    from tmscore import tm_score
+
+    nat = load_native(realdata, "ubiquitin")
+    xyz, sig, dphi, dpsi = ladder_candidates(nat, 8, np.random.default_rng(3))
+    cand = dataclasses.replace(nat, coords=xyz, model_names=[str(k) for k in range(8)], _index=None)
+    t0, t1 = backbone_torsions(nat), backbone_torsions(cand)
+    wrap = lambda a: (a + 180) % 360 - 180
+    assert not dphi[:, nat.res_name.astype(str) == "PRO"].any()
+    for key, drawn in (("phi", dphi), ("psi", dpsi)):
+        got = wrap(t1[key] - t0[key][0])
+        ok = np.isfinite(got)
+        assert ok.sum() > 0.9 * got.size
+        assert np.allclose(got[ok], wrap(drawn)[ok], atol=1e-3)
+    assert np.all(sig >= 0.3 - 1e-9) and np.all(sig <= 12.0)
+    ca = nat.indices(np.arange(nat.n_residues), "CA")
+    tm = np.array([tm_score(xyz[k, ca], nat.coords[0, ca], n_iter=4) for k in range(8)])
+    lo, hi = np.argsort(sig)[:3], np.argsort(sig)[-3:]
+    assert tm[lo].mean() > tm[hi].mean()

@@ -74,3 +74,20 @@ def test_against_brute_force_optimal_superposition():
     ours = tm_score(P, Q)
     ref = _brute_force(P, Q)
     assert ours == pytest.approx(ref, abs=0.01)
+
+
+def test_partial_model_normalised_by_native_length():
+    # Zhang & Skolnick 2004: TM = (1/L_native) sum_i 1/(1+(d_i/d0(L_native))^2); residues the
+    # model lacks count zero. An exact copy of 60 of 80 residues: 60/80, with d0 of 80 (any d0
+    # gives 1 per residue at distance 0).
+    x = _chain(80, 4)
+    assert tm_score(x[:60], x[:60], length=80) == pytest.approx(60 / 80, abs=1e-12)
+    # a perturbed partial copy: the value equals the full-length sum formula at the same pose
+    rng = np.random.default_rng(5)
+    y = x[:60] + rng.normal(0, 1.0, (60, 3))
+    dist = np.linalg.norm(y - x[:60], axis=1)
+    at_identity = np.sum(1 / (1 + (dist / d0(80)) ** 2)) / 80
+    assert tm_score(y, x[:60], length=80) >= at_identity - 1e-12
+    assert tm_score(y, x[:60], length=80) < 60 / 80
+    with pytest.raises(ValueError):
+        tm_score(y, x[:60], length=50)

@@ -4,11 +4,15 @@ Usage (after ``make decoys`` / tools/plausible_decoys.py has filled .cache/decoy
     SHIFTCHECK_REALDATA=../shared/realdata python tools/validate_folds.py [--decoys .cache/decoys]
 
 Per training protein: the minimised native and its minimised, geometry-checked decoys (torsion
-decoys and threaded wrong folds) are scored together against the protein's shift list
-(shiftcheck.score.scoring.score, 200 bootstrap replicates, no ensemble means). Reported: the
-minimised native's rank, and Spearman's rho between the score (lower = better) and 1 - TM-score
-to the deposited native (Zhang & Skolnick 2004; tools/tmscore.py), so a positive rho means that
-models further from the native fold score worse. The text goes between the
+decoys, the perturbation ladder and threaded wrong folds) are scored together against the
+protein's shift list (shiftcheck.pipeline.score_models, 200 bootstrap replicates, no ensemble
+means). Reported: the minimised native's rank, and Spearman's rho between the score (lower =
+better) and 1 - TM-score to the native (Zhang & Skolnick 2004; tools/tmscore.py), so a positive
+rho means that models further from the native fold score worse: over all models, and per decoy
+family (the native plus that family's models), so that no family alone carries the figure; and
+whether every threaded wrong fold scores worse than every other model. Per nucleus class, the
+contribution to the combined score (mean robust loss of the class's atoms over all compared atoms)
+is written to ``<decoys>/fold_details.json`` for diagnosis. The text goes between the
 ``<!-- BEGIN folds -->`` / ``<!-- END folds -->`` markers (appended if absent).
 Caution: the predictor's parameters were fitted on these proteins' deposited structures.
 """
@@ -24,80 +28,149 @@ import numpy as np
 from scipy.stats import spearmanr
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from plausible_decoys import TRAINING, _read, heavy_only  # noqa: E402
+from plausible_decoys import TRAINING, _read, load_native  # noqa: E402
 from validate_scoring import _table, write_section  # noqa: E402
 
 __all__ = ["fold_run", "render", "main"]
 
 
+FAMILIES = ("ladder", "torsion", "thread")
+
+
+def _rho(scores, tm, sel) -> float:
+    sel = np.asarray(sel)
+    if sel.sum() < 3:
+        return float("nan")
+    return float(spearmanr(scores[sel], 1.0 - tm[sel]).statistic)
+
+
 def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict | None:
     """Score native_min + decoys of one protein; None when the cache has no manifest."""
-    from shiftcheck.io.coords import read_models
     from shiftcheck.io.shift_formats import read_shifts
     from shiftcheck.pipeline import score_models as score
+    from shiftcheck.score._constants import scoring_constants
+    from shiftcheck.score.metrics import huber_q
     from shiftcheck.structure.quality import result_geometry
 
     man_path = decoys / folder / "manifest.json"
     if not man_path.exists():
         return None
     man = json.loads(man_path.read_text())
-    shift_file, native_file = TRAINING[folder]
-    native = heavy_only(read_models([root / folder / native_file], build_hydrogens=False)[0]
-                        .select_models([0]))
+    shift_file = TRAINING[folder][0]
+    native = load_native(root, folder)
     recs = man["models"]
-    ens = [_read(decoys / folder / r["file"], native) for r in recs]
+    ens = [_read(decoys / folder / r["file"], native, int(r.get("first_residue", 0))) for r in recs]
     res = score(read_shifts(root / folder / shift_file), ens, n_boot=n_boot, include_mean=False)
-    sc = dict(zip(res.comparison.names, res.ranking.score))
-    rk = dict(zip(res.comparison.names, res.ranking.rank))
+    names = list(res.comparison.names)
+    sc = dict(zip(names, res.ranking.score))
+    rk = dict(zip(names, res.ranking.rank))
     scores = np.array([sc[r["file"]] for r in recs])
     tm = np.array([r["tm_score"] for r in recs])
-    kinds = [r["kind"] for r in recs]
-    rho = float(spearmanr(scores, 1.0 - tm).statistic)
+    kinds = np.array([r["kind"] for r in recs])
+    # per-nucleus contributions: sum of the class's robust losses / number of compared atoms
+    z = res.z
+    q = np.where(np.isfinite(z), huber_q(np.nan_to_num(z), float(scoring_constants()["huber_h"]["value"])), np.nan)
+    nuc = np.asarray(res.comparison.nucleus).astype(str)
+    n_valid = np.isfinite(q).sum(axis=1)
+    contrib = {c: (np.nansum(q[:, nuc == c], axis=1) / n_valid) for c in sorted(set(nuc))}
+    row_of = {n: i for i, n in enumerate(names)}
+    details = [{"file": r["file"], "kind": r["kind"], "tm": r["tm_score"], "score": sc[r["file"]],
+                "contrib": {c: round(float(v[row_of[r["file"]]]), 5) for c, v in contrib.items()},
+                "n_atoms": {c: int(np.isfinite(q[row_of[r["file"]], nuc == c]).sum()) for c in contrib}}
+               for r in recs]
     geo = result_geometry(res)
+    nat = kinds == "native_min"
     dec = [r for r in recs if r["kind"] != "native_min"]
-    thr = [i for i, k in enumerate(kinds) if k == "thread"]
-    tor = [i for i, k in enumerate(kinds) if k == "torsion"]
-    return {"protein": folder, "native": native_file, "n_torsion": len(tor), "n_thread": len(thr),
-            "tm_native_min": recs[0]["tm_score"],
-            "tm_range": f"{min(r['tm_score'] for r in dec):.2f}-{max(r['tm_score'] for r in dec):.2f}",
-            "native_rank": int(rk["native_min.pdb"]), "n_models": len(recs),
-            "native_score": sc["native_min.pdb"], "best_decoy": float(np.min(scores[1:])),
-            "best_thread": float(np.min(scores[thr])) if thr else float("nan"),
-            "rho": rho,
-            "max_clash": max(g["clashes_per_1000"] for g in geo.values()),
-            "max_severe": max(g["severe_pairs"] for g in geo.values()),
-            "n_warned": sum(bool(g["bad"]) for g in geo.values()),
-            "rejected": len(man.get("rejected", [])), "seconds": man.get("seconds", 0.0)}
+    thr = kinds == "thread"
+    best = int(np.argmin(np.where(nat, np.inf, scores)))
+    out = {"protein": folder.split("/")[-1], "folder": folder, "native": man["native"] +
+           (f" ({man['chain']})" if man.get("chain") else ""),
+           "n_torsion": int((kinds == "torsion").sum()), "n_ladder": int((kinds == "ladder").sum()),
+           "n_thread": int(thr.sum()), "tm_native_min": recs[0]["tm_score"],
+           "tm_range": f"{min(r['tm_score'] for r in dec):.2f}-{max(r['tm_score'] for r in dec):.2f}",
+           "native_rank": int(rk["native_min.pdb"]), "n_models": len(recs),
+           "native_score": sc["native_min.pdb"], "best_decoy": float(scores[best]),
+           "best_decoy_name": recs[best]["file"], "best_decoy_tm": float(tm[best]),
+           "best_thread": float(np.min(scores[thr])) if thr.any() else float("nan"),
+           "thread_worst": ("yes" if thr.any() and scores[thr].min() > scores[~thr].max() else
+                            ("no" if thr.any() else "-")),
+           "rho": _rho(scores, tm, np.ones(len(recs), bool)),
+           "rho_near": _rho(scores, tm, ~thr),
+           "max_clash": max(g["clashes_per_1000"] for g in geo.values()),
+           "max_severe": max(g["severe_pairs"] for g in geo.values()),
+           "n_warned": sum(bool(g["bad"]) for g in geo.values()),
+           "rejected": len(man.get("rejected", [])), "seconds": man.get("seconds", 0.0),
+           "details": details}
+    for fam in FAMILIES:
+        out[f"rho_{fam}"] = _rho(scores, tm, nat | (kinds == fam))
+    return out
 
 
-def render(rows: list[dict], missing: list[str], command: str) -> str:
-    rho = np.array([r["rho"] for r in rows])
+def _mean(rows, key) -> str:
+    v = np.array([r[key] for r in rows], float)
+    v = v[np.isfinite(v)]
+    return f"{v.mean():.2f} (median {np.median(v):.2f}, min {v.min():.2f}, {v.size} proteins)" if v.size else "n/a"
+
+
+def render(rows: list[dict], missing: list[str], command: str, wall: float | None = None,
+           diagnosis: list[str] | None = None) -> str:
     first = sum(r["native_rank"] == 1 for r in rows)
     total = sum(r["seconds"] for r in rows)
+    gen = f"{total / 60:.0f} min of generation summed over proteins"
+    if wall:
+        gen += f", {wall / 60:.0f} min wall time with 2 workers on 2 shared cores"
     L = ["## Fold selection on plausible decoys", "",
-         f"Regenerate with `make decoys` (tools/plausible_decoys.py, fixed seeds; {total / 60:.0f} min "
-         f"of generation here) then `{command}` (tools/validate_folds.py).", "",
-         "Models per protein: the deposited native's heavy atoms minimised by the decoy protocol "
-         "(`native_min`), torsion decoys (loop residues moved to other backbone basins, or one "
-         "segment rewritten to helix or strand) and wrong folds made by threading the sequence onto "
-         "other proteins' backbones (side chains rebuilt by PDBFixer); all energy-minimised with "
-         "OpenMM (Amber ff14SB, backbone-restrained) and kept only when shiftcheck's geometry rule "
-         "(docs/outputs.md, Model geometry) does not flag them. TM: TM-score to the deposited native "
-         "(Zhang & Skolnick 2004). rho: Spearman correlation of score with 1 - TM over all models "
-         "of the protein (positive = models further from the native score worse). Geometry columns: "
-         "the worst model's clashes per 1000 heavy atoms and pairs below 2 Å, models warned.", ""]
+         "Regenerate with `make decoys` (tools/plausible_decoys.py, fixed seeds; "
+         f"{gen}) then `{command}` (tools/validate_folds.py).", "",
+         "Proteins: the 23 training proteins. Native: the X-ray structure where the pairs file has one, "
+         "otherwise the structure the predictor is fitted on (tools/realdata_pairs.tsv), its first "
+         "model (chain A of the homodimers 2jr2, 2kko, 2ko1; 6nbn: the AMBER re-calculation, the "
+         "only structure with its disulfides formed). Models per protein, all energy-minimised "
+         "with OpenMM (Amber ff14SB, backbone-restrained) and kept only when shiftcheck's geometry "
+         "rule (docs/outputs.md, Model geometry) does not flag them:", "",
+         "* `native_min`: the native's heavy atoms minimised by the same protocol;",
+         "* torsion decoys: loop residues moved to other backbone basins, or one segment rewritten "
+         "to helix or strand;",
+         "* perturbation ladder: Gaussian noise on every residue's phi and psi (sigma log-uniform "
+         "0.3-12 degrees times sqrt(76 / residues)), one model per TM-score bin "
+         "0.85-0.97, 0.70-0.85, 0.55-0.70, 0.40-0.55, 0.25-0.40 (fewest clashes first, up to 3 "
+         "tries per bin), so the decoys span the TM range instead of two clusters;",
+         "* threaded wrong folds: the sequence on another training protein's backbone (side chains "
+         "rebuilt by PDBFixer); donors at least as long as the native first, then donors of at "
+         "least 60 % of its length with the native's unmatched terminal residues left out of the "
+         "model (the largest proteins, e.g. sensory rhodopsin, have no longer donor). A partial "
+         "model is scored on the atoms it has; its TM-score is normalised by the native's length, "
+         "so the missing residues count zero.", "",
+         "TM: TM-score to the native (Zhang & Skolnick 2004). rho: Spearman correlation of score "
+         "with 1 - TM (positive = models further from the native score worse) over all models, "
+         "over native + torsion + ladder (no threaded models), and per family (native + that "
+         "family's models). Thread worst: every threaded model scores worse than every other model. "
+         "Geometry columns: the worst model's clashes per 1000 heavy atoms and pairs below 2 Å, "
+         "models warned, candidates rejected by the geometry rule.", ""]
     L += _table(rows, [("protein", "protein", ""), ("native", "native", ""), ("n_torsion", "torsion", ""),
-                       ("n_thread", "threaded", ""), ("tm_native_min", "TM native_min", ".3f"),
+                       ("n_ladder", "ladder", ""), ("n_thread", "threaded", ""),
                        ("tm_range", "TM decoys", ""), ("native_rank", "native rank", ""),
                        ("n_models", "of", ""), ("native_score", "native score", ".3f"),
-                       ("best_decoy", "best decoy", ".3f"), ("best_thread", "best threaded", ".3f"),
-                       ("rho", "rho(score, 1-TM)", ".2f"), ("max_clash", "max clashes/1000", ".1f"),
+                       ("best_decoy", "best decoy", ".3f"), ("best_decoy_tm", "its TM", ".2f"),
+                       ("best_thread", "best threaded", ".3f"),
+                       ("rho", "rho all", ".2f"), ("rho_near", "rho no-thread", ".2f"),
+                       ("rho_ladder", "rho ladder", ".2f"), ("rho_torsion", "rho torsion", ".2f"),
+                       ("thread_worst", "thread worst", ""),
+                       ("max_clash", "max clashes/1000", ".1f"),
                        ("max_severe", "max < 2 Å", ""), ("n_warned", "warned", ""),
                        ("rejected", "rejected", "")])
-    L += ["", f"Native (minimised) ranked first for {first} of {len(rows)} proteins (goal: all); "
-          f"mean rho(score, 1-TM) {np.nanmean(rho):.2f} (goal >= 0.9), median {np.nanmedian(rho):.2f}."]
+    tw = sum(r["thread_worst"] == "yes" for r in rows)
+    nt = sum(r["thread_worst"] != "-" for r in rows)
+    L += ["", f"Native (minimised) ranked first for {first} of {len(rows)} proteins (goal: all).", "",
+          f"* mean rho over all models: {_mean(rows, 'rho')} (goal >= 0.9)",
+          f"* mean rho without the threaded models: {_mean(rows, 'rho_near')}",
+          f"* mean rho, ladder family: {_mean(rows, 'rho_ladder')}",
+          f"* mean rho, torsion family: {_mean(rows, 'rho_torsion')}",
+          f"* threaded wrong folds all worse than every other model: {tw} of {nt} proteins"]
     if missing:
         L += ["", "No decoys generated for: " + ", ".join(missing) + "."]
+    if diagnosis:
+        L += [""] + diagnosis
     L += ["", "Caution: the predictor's parameters were fitted on these proteins' deposited structures, "
           "so the native's agreement is in-sample; agreement with shifts supports a fold but does "
           "not prove it.", ""]
@@ -110,6 +183,8 @@ def main(argv=None) -> int:
     ap.add_argument("--decoys", default=str(Path(__file__).resolve().parents[1] / ".cache" / "decoys"))
     ap.add_argument("--doc", default=str(Path(__file__).resolve().parents[1] / "docs" / "validation.md"))
     ap.add_argument("--only", nargs="*", default=None)
+    ap.add_argument("--diagnosis", default=str(Path(__file__).resolve().parent / "fold_diagnosis.md"),
+                    help="hand-written diagnosis paragraph appended to the section (if the file exists)")
     a = ap.parse_args(argv)
     rows, missing = [], []
     for folder in a.only or list(TRAINING):
@@ -118,11 +193,20 @@ def main(argv=None) -> int:
             missing.append(folder)
             continue
         rows.append(r)
-        print(f"{folder}: rank {r['native_rank']}/{r['n_models']} rho {r['rho']:.2f}", file=sys.stderr, flush=True)
+        print(f"{folder}: rank {r['native_rank']}/{r['n_models']} rho {r['rho']:.2f} "
+              f"(no-thread {r['rho_near']:.2f}, ladder {r['rho_ladder']:.2f}, torsion {r['rho_torsion']:.2f}, "
+              f"thread worst {r['thread_worst']})", file=sys.stderr, flush=True)
     if not rows:
         print("no decoys found: run `make decoys` first", file=sys.stderr)
         return 2
-    text = render(rows, missing, "SHIFTCHECK_REALDATA=../shared/realdata python tools/validate_folds.py")
+    (Path(a.decoys) / "fold_details.json").write_text(json.dumps(rows, indent=1, default=float) + "\n")
+    wall = None
+    summ = Path(a.decoys) / "summary.json"
+    if summ.exists():
+        wall = sum(r["wall_seconds"] for r in json.loads(summ.read_text()).get("runs", [])) or None
+    diag = Path(a.diagnosis)
+    text = render(rows, missing, "SHIFTCHECK_REALDATA=../shared/realdata python tools/validate_folds.py",
+                  wall, diag.read_text().strip().splitlines() if diag.exists() else None)
     write_section(Path(a.doc), text, name="folds")
     print(text)
     return 0
