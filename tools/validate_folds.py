@@ -89,6 +89,10 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
            "n_thread": int(thr.sum()), "tm_native_min": recs[0]["tm_score"],
            "tm_range": f"{min(r['tm_score'] for r in dec):.2f}-{max(r['tm_score'] for r in dec):.2f}",
            "native_rank": int(rk["native_min.pdb"]), "n_models": len(recs),
+           "native_in_group": "yes" if dict(zip(names, res.ranking.best_group))["native_min.pdb"] else "no",
+           "group_size": int(np.sum(res.ranking.best_group)),
+           "group_min_tm": float(min(tm[i] for i, r in enumerate(recs)
+                                     if dict(zip(names, res.ranking.best_group))[r["file"]])),
            "native_score": sc["native_min.pdb"], "best_decoy": float(scores[best]),
            "best_decoy_name": recs[best]["file"], "best_decoy_tm": float(tm[best]),
            "best_thread": float(np.min(scores[thr])) if thr.any() else float("nan"),
@@ -144,13 +148,16 @@ def render(rows: list[dict], missing: list[str], command: str, wall: float | Non
          "TM: TM-score to the native (Zhang & Skolnick 2004). rho: Spearman correlation of score "
          "with 1 - TM (positive = models further from the native score worse) over all models, "
          "over native + torsion + ladder (no threaded models), and per family (native + that "
-         "family's models). Thread worst: every threaded model scores worse than every other model. "
+         "family's models). Best group: the models the paired bootstrap over residues cannot separate "
+         "from the best one (docs/outputs.md). Thread worst: every threaded model scores worse than every other model. "
          "Geometry columns: the worst model's clashes per 1000 heavy atoms and pairs below 2 Å, "
          "models warned, candidates rejected by the geometry rule.", ""]
     L += _table(rows, [("protein", "protein", ""), ("native", "native", ""), ("n_torsion", "torsion", ""),
                        ("n_ladder", "ladder", ""), ("n_thread", "threaded", ""),
                        ("tm_range", "TM decoys", ""), ("native_rank", "native rank", ""),
-                       ("n_models", "of", ""), ("native_score", "native score", ".3f"),
+                       ("n_models", "of", ""), ("native_in_group", "native in best group", ""),
+                       ("group_size", "best group size", ""), ("group_min_tm", "lowest TM in group", ".2f"),
+                       ("native_score", "native score", ".3f"),
                        ("best_decoy", "best decoy", ".3f"), ("best_decoy_tm", "its TM", ".2f"),
                        ("best_thread", "best threaded", ".3f"),
                        ("rho", "rho all", ".2f"), ("rho_near", "rho no-thread", ".2f"),
@@ -161,7 +168,9 @@ def render(rows: list[dict], missing: list[str], command: str, wall: float | Non
                        ("rejected", "rejected", "")])
     tw = sum(r["thread_worst"] == "yes" for r in rows)
     nt = sum(r["thread_worst"] != "-" for r in rows)
-    L += ["", f"Native (minimised) ranked first for {first} of {len(rows)} proteins (goal: all).", "",
+    ing = sum(r["native_in_group"] == "yes" for r in rows)
+    L += ["", f"Native (minimised) ranked first for {first} of {len(rows)} proteins (goal: all); "
+          f"in the best group for {ing} of {len(rows)}.", "",
           f"* mean rho over all models: {_mean(rows, 'rho')} (goal >= 0.9)",
           f"* mean rho without the threaded models: {_mean(rows, 'rho_near')}",
           f"* mean rho, ladder family: {_mean(rows, 'rho_ladder')}",
