@@ -451,9 +451,13 @@ def main(argv=None) -> int:
     ap.add_argument("--no-ladder", action="store_true")
     ap.add_argument("--seed", type=int, default=11)
     ap.add_argument("--jobs", type=int, default=2, help="proteins minimised in parallel (1 thread each)")
+    ap.add_argument("--skip-done", action="store_true",
+                    help="leave out proteins whose manifest.json already exists (resume a run)")
     a = ap.parse_args(argv)
     t0 = time.time()
     folders = a.only or list(TRAINING)
+    if a.skip_done:
+        folders = [f for f in folders if not (Path(a.out) / f / "manifest.json").exists()]
     jobs = max(1, a.jobs)
     kw = {"n_torsion": a.n_torsion, "n_thread": a.n_thread, "seed": a.seed, "ladder": not a.no_ladder,
           "threads": 1 if jobs > 1 else 2}
