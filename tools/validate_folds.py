@@ -116,6 +116,51 @@ def _mean(rows, key) -> str:
     return f"{v.mean():.2f} (median {np.median(v):.2f}, min {v.min():.2f}, {v.size} proteins)" if v.size else "n/a"
 
 
+def diagnose(rows: list[dict]) -> list[str]:
+    """Generated diagnosis: which decoys beat the native and through which nuclei, and how well
+    each nucleus class's contribution alone follows 1 - TM (per family, mean over proteins)."""
+    L = ["### Diagnosis (generated)", ""]
+    lost = [r for r in rows if r["native_rank"] != 1]
+    if lost:
+        L += ["Decoys scoring better than the minimised native, with the change of each nucleus "
+              "class's contribution to score^2 (decoy - native; negative = the decoy agrees better "
+              "with that class):", ""]
+        for r in lost:
+            det = {d["file"]: d for d in r["details"]}
+            nat = det["native_min.pdb"]
+            for d in sorted(r["details"], key=lambda d: d["score"]):
+                if d["file"] == "native_min.pdb":
+                    break
+                dl = {c: d["contrib"][c] - nat["contrib"][c] for c in nat["contrib"]}
+                parts = ", ".join(f"{c} {v:+.4f}" for c, v in sorted(dl.items(), key=lambda x: x[1]))
+                L.append(f"* {r['protein']}: {d['file']} (TM {d['tm']:.2f}) {d['score']:.4f} vs native "
+                         f"{nat['score']:.4f}; {parts}")
+        L.append("")
+    classes = sorted({c for r in rows for d in r["details"] for c in d["contrib"]})
+    fams = [("ladder", ("native_min", "ladder")), ("torsion", ("native_min", "torsion")),
+            ("no-thread", ("native_min", "ladder", "torsion")),
+            ("all", ("native_min", "ladder", "torsion", "thread"))]
+    L += ["Spearman rho of each nucleus class's contribution alone with 1 - TM (mean over proteins; "
+          "the combined score's rho in the last column):", "",
+          "| models | " + " | ".join(classes) + " | combined |", "|" + "---|" * (len(classes) + 2)]
+    for name, kinds in fams:
+        cells = []
+        for c in classes + ["combined"]:
+            vals = []
+            for r in rows:
+                ds = [d for d in r["details"] if d["kind"] in kinds and (c == "combined" or c in d["contrib"])]
+                if len(ds) < 3:
+                    continue
+                x = np.array([d["score"] if c == "combined" else d["contrib"][c] for d in ds])
+                t = np.array([1.0 - d["tm"] for d in ds])
+                v = spearmanr(x, t).statistic
+                if np.isfinite(v):
+                    vals.append(v)
+            cells.append(f"{np.mean(vals):.2f}" if vals else "n/a")
+        L.append(f"| {name} | " + " | ".join(cells) + " |")
+    return L
+
+
 def render(rows: list[dict], missing: list[str], command: str, wall: float | None = None,
            diagnosis: list[str] | None = None) -> str:
     first = sum(r["native_rank"] == 1 for r in rows)
@@ -178,6 +223,7 @@ def render(rows: list[dict], missing: list[str], command: str, wall: float | Non
           f"* threaded wrong folds all worse than every other model: {tw} of {nt} proteins"]
     if missing:
         L += ["", "No decoys generated for: " + ", ".join(missing) + "."]
+    L += [""] + diagnose(rows)
     if diagnosis:
         L += [""] + diagnosis
     L += ["", "Caution: the predictor's parameters were fitted on these proteins' deposited structures, "
