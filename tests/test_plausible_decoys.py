@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tools"))
-from plausible_decoys import BASINS, heavy_only, thread_backbone, torsion_candidates  # noqa: E402
+from plausible_decoys import BASINS, heavy_only, thread_backbone, torsion_candidates, with_native_side_chains  # noqa: E402,E501
 
 from shiftcheck.structure.builder import build_protein  # noqa: E402
 from shiftcheck.structure.geometry import backbone_torsions  # noqa: E402
@@ -111,3 +111,32 @@ def test_ladder_noise_changes_every_torsion_by_the_drawn_amount(realdata):
     tm = np.array([tm_score(xyz[k, ca], nat.coords[0, ca], n_iter=4) for k in range(8)])
     lo, hi = np.argsort(sig)[:3], np.argsort(sig)[-3:]
     assert tm[lo].mean() > tm[hi].mean()
+
+
+def test_native_side_chains_ride_on_the_donor_backbone():
+    """Threaded model with the native's side chains: backbone atoms exactly the donor's, every
+    side-chain atom at the same position relative to its residue's N, CA, C as in the native
+    (rigid-body geometry: distances to N, CA, C kept), for a full and a partial window."""
+    seq = ["PHE", "LEU", "LYS", "TRP", "GLU", "ARG", "TYR"]
+    target = _protein(seq, [-63] * 7, [-42] * 7)
+    donor = _protein(["VAL"] * 9, [-120] * 9, [130] * 9)
+    for start, offset, size in ((1, None, 7), (0, 2, 5)):
+        small = donor if offset is None else _protein(["VAL"] * 5, [-120] * 5, [130] * 5)
+        bb, _ = thread_backbone(target, small, start, offset=offset)
+        first = offset or 0
+        full = with_native_side_chains(target, bb, first)
+        assert full.n_residues == size and list(full.res_name) == seq[first:first + size]
+        r = np.arange(size)
+        for name in ("N", "CA", "C", "O"):
+            assert np.allclose(full.xyz(r, name)[0], bb.xyz(r, name)[0])
+        names = full.atom_name.astype(str)
+        side = ~np.isin(names, ["N", "CA", "C", "O"])
+        assert side.sum() == sum(((target.atom_res == i + first) & ~np.isin(
+            target.atom_name.astype(str), ["N", "CA", "C", "O", "OXT"])).sum() for i in r)
+        for a in np.flatnonzero(side):
+            i = full.atom_res[a]
+            t = target.index(i + first, names[a])
+            for ref in ("N", "CA", "C"):
+                d_full = np.linalg.norm(full.coords[0, a] - full.xyz(np.array([i]), ref)[0, 0])
+                d_nat = np.linalg.norm(target.coords[0, t] - target.xyz(np.array([i + first]), ref)[0, 0])
+                assert abs(d_full - d_nat) < 1e-4      # both built with the same ideal N-CA-C geometry

@@ -4,7 +4,9 @@ wrong folds, each checked with shiftcheck's geometry summary (shiftcheck.structu
 Development-only: needs OpenMM (Eastman et al. 2017, PLoS Comput. Biol. 13:e1005659) and PDBFixer
 (``pip install -e '.[decoys]'``); the package itself never imports them.
 
-Per training protein (the native: its X-ray structure where the pairs file has one):
+Per training protein (TRAINING: the 23 proteins of tools/realdata_pairs.tsv; the native is
+the X-ray structure where the pairs file has one, else the fitted structure's first model, chain A
+of the homodimers):
 * ``native_min``: the native's heavy atoms, hydrogens added by PDBFixer, energy-minimised by the
   same protocol as the decoys, so native and decoys carry the same force-field polish.
 * ``torsion``: loop residues (secondary structure 'C') set to random backbone basins (alpha-R,
@@ -13,27 +15,34 @@ Per training protein (the native: its X-ray structure where the pairs file has o
   before minimisation, spread over CA-RMSD bins, minimised, and kept only if the minimised model
   passes the geometry rule (not 'bad' by shiftcheck/data/geometry_quality.json), else the next
   candidate of the bin is tried.
-* ``thread``: the native sequence on another protein's backbone (N, CA, C, O of a window of the
-  donor's chain; only donors at least as long as the native by default, so the largest protein,
-  sensory rhodopsin, 218 residues, gets no threaded decoys; ``thread_backbone`` can leave
-  terminal residues for PDBFixer to build, but that was slow and mostly rejected), side chains and
-  hydrogens rebuilt by PDBFixer, minimised, geometry-checked.
-  Per donor the window (every second start) with the fewest Ramachandran outliers of the native
-  sequence on the donor's phi/psi is used; donors are tried in that order, one decoy per donor.
+* ``ladder``: a perturbation ladder spanning the TM-score range: Gaussian noise on every
+  residue's phi and psi (sigma log-uniform 0.3-12 deg times sqrt(76 / residues); own random
+  stream); one model per TM-score bin (LADDER_TM_EDGES, TM before minimisation), the candidate
+  with the fewest heavy-atom clashes first, up to 3 tries per bin, minimised and geometry-checked.
+* ``thread``: the native sequence on another training protein's backbone (N, CA, C, O of a window
+  of the donor's chain) with the native's side chains moved rigidly with each residue's N-CA-C
+  frame (with_native_side_chains), minimised, geometry-checked. Per donor the window (every
+  second start) with the fewest Ramachandran outliers of the native sequence on the donor's
+  phi/psi is used; donors at least as long as the native first, then (when too few) donors of at
+  least 60 % of the native's length, with the native's residues offset..offset+M-1 on the donor's
+  whole chain and the other residues left out of the model (sensory rhodopsin, 218 residues, has
+  no longer donor). One decoy per donor.
 Minimisation: Amber ff14SB (amber14-all.xml, Maier et al. 2015 J. Chem. Theory Comput. 11:3696),
 no solvent, non-periodic cutoff 1.0 nm with OpenMM's reaction-field treatment (dielectric 78.3),
 L-BFGS local minimisation (at most 1000 steps, tolerance 10 kJ/mol/nm) with harmonic restraints
 (10^5 kJ/mol/nm^2) on the backbone N, CA, C of the input, so side chains and carbonyls relax
 while the fold and the backbone torsions stay those built (unrestrained minimisation in vacuum
 moved the native 0.8 A CA-RMSD and pushed threaded backbones into Ramachandran outliers). Protocol choice:
-common practice, no source; chosen for speed (about 2-5 s per model on 2 cores).
+common practice, no source; chosen for speed (about 2-5 s per model of 70 residues on 2 cores).
+Proteins run in parallel (``--jobs``, default 2, one OpenMM thread each), largest first.
 
 Output (never committed): ``.cache/decoys/<folder>/`` with one PDB per model and manifest.json
-(kind, seed, donor, CA-RMSD and TM-score to the native, geometry record, minimised energy).
+(kind, seed, donor, CA-RMSD and TM-score to the native, geometry record, minimised energy);
+``summary.json`` the wall time of each run.
 Reproducible: fixed seeds per protein (``--seed``, default 11), deterministic donor choice.
 
 Usage:  SHIFTCHECK_REALDATA=../shared/realdata python tools/plausible_decoys.py [--only FOLDER ...]
-        [--n-torsion 6] [--n-thread 3] [--out .cache/decoys]
+        [--n-torsion 4] [--n-thread 3] [--no-ladder] [--jobs 2] [--skip-done] [--out .cache/decoys]
 """
 from __future__ import annotations
 

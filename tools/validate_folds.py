@@ -184,8 +184,8 @@ def render(rows: list[dict], missing: list[str], command: str, wall: float | Non
          "0.3-12 degrees times sqrt(76 / residues)), one model per TM-score bin "
          "0.85-0.97, 0.70-0.85, 0.55-0.70, 0.40-0.55, 0.25-0.40 (fewest clashes first, up to 3 "
          "tries per bin), so the decoys span the TM range instead of two clusters;",
-         "* threaded wrong folds: the sequence on another training protein's backbone (side chains "
-         "rebuilt by PDBFixer); donors at least as long as the native first, then donors of at "
+         "* threaded wrong folds: the sequence on another training protein's backbone (the native's "
+         "side chains moved rigidly with each residue's N-CA-C frame, then minimised); donors at least as long as the native first, then donors of at "
          "least 60 % of its length with the native's unmatched terminal residues left out of the "
          "model (the largest proteins, e.g. sensory rhodopsin, have no longer donor). A partial "
          "model is scored on the atoms it has; its TM-score is normalised by the native's length, "
