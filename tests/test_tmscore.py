@@ -91,3 +91,22 @@ def test_partial_model_normalised_by_native_length():
     assert tm_score(y, x[:60], length=80) < 60 / 80
     with pytest.raises(ValueError):
         tm_score(y, x[:60], length=50)
+
+
+def test_lddt_ca_by_hand():
+    """CA lDDT (Mariani et al. 2013): identical = 1, rigid motion = 1 (superposition-free); a
+    4-point case counted by hand; a missing residue counts as not preserved."""
+    from tmscore import lddt_ca
+
+    x = _chain(30, 7)
+    R = Rotation.random(random_state=2)
+    assert lddt_ca(x, x) == 1.0 and lddt_ca(R.apply(x) + 5.0, x) == pytest.approx(1.0)
+    nat = np.array([[0.0, 0, 0], [3.8, 0, 0], [7.6, 0, 0], [30.0, 0, 0]])   # residue 4 far away
+    mod = nat.copy()
+    mod[2, 0] += 1.5                      # pair (1,3) 7.6 -> 9.1, pair (2,3) 3.8 -> 5.3
+    # ordered pairs within 15 A: (1,2),(1,3),(2,3) both ways = 6; pairs (1,3),(2,3) differ by 1.5:
+    # preserved at 2 and 4 A, not at 0.5 and 1 A -> fractions 2/6, 2/6, 6/6, 6/6 -> mean 2/3
+    assert lddt_ca(mod, nat) == pytest.approx((2 / 6 + 2 / 6 + 1 + 1) / 4)
+    gone = nat.copy()
+    gone[0] = np.nan                      # 4 of the 6 ordered pairs lose their partner
+    assert lddt_ca(gone, nat) == pytest.approx(2 / 6)

@@ -92,3 +92,22 @@ def tm_score(model: np.ndarray, native: np.ndarray, n_iter: int = 20, length: in
             break
         W = np.unique(newW, axis=0)
     return best
+
+
+def lddt_ca(model: np.ndarray, native: np.ndarray, radius: float = 15.0,
+            thresholds: tuple[float, ...] = (0.5, 1.0, 2.0, 4.0)) -> float:
+    """CA-only lDDT (local distance difference test, Mariani et al. 2013, Bioinformatics 29:2722):
+    over all residue pairs closer than ``radius`` (15 Å) in the native, the fraction whose model
+    distance differs from the native one by less than each threshold (0.5, 1, 2, 4 Å), averaged
+    over the thresholds. Superposition-free, so it measures local agreement. Rows of ``model``
+    that are NaN (residues the model lacks) count as not preserved."""
+    P, Q = np.asarray(model, float), np.asarray(native, float)
+    dq = np.linalg.norm(Q[:, None] - Q[None], axis=-1)
+    dp = np.linalg.norm(P[:, None] - P[None], axis=-1)
+    n = len(Q)
+    pair = (dq < radius) & ~np.eye(n, dtype=bool) & np.isfinite(dq)
+    if not pair.any():
+        raise ValueError("no residue pairs within the inclusion radius")
+    diff = np.abs(dp - dq)[pair]
+    diff = np.where(np.isfinite(diff), diff, np.inf)
+    return float(np.mean([(diff < t).mean() for t in thresholds]))

@@ -28,7 +28,8 @@ import numpy as np
 from scipy.stats import spearmanr
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from plausible_decoys import TRAINING, _read, load_native  # noqa: E402
+from plausible_decoys import TRAINING, _ca, _read, load_native  # noqa: E402
+from tmscore import lddt_ca  # noqa: E402
 from validate_scoring import _table, write_section  # noqa: E402
 
 __all__ = ["fold_run", "render", "main"]
@@ -67,6 +68,14 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
     scores = np.array([sc[r["file"]] for r in recs])
     tm = np.array([r["tm_score"] for r in recs])
     kinds = np.array([r["kind"] for r in recs])
+    ca0 = _ca(native)
+    lddt = []
+    for r, e in zip(recs, ens):
+        full = np.full_like(ca0, np.nan)
+        f0 = int(r.get("first_residue", 0))
+        full[f0:f0 + e.n_residues] = _ca(e)
+        lddt.append(lddt_ca(full, ca0))
+    lddt = np.array(lddt)
     # per-nucleus contributions: sum of the class's robust losses / number of compared atoms
     z = res.z
     q = np.where(np.isfinite(z), huber_q(np.nan_to_num(z), float(scoring_constants()["huber_h"]["value"])), np.nan)
@@ -74,10 +83,11 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
     n_valid = np.isfinite(q).sum(axis=1)
     contrib = {c: (np.nansum(q[:, nuc == c], axis=1) / n_valid) for c in sorted(set(nuc))}
     row_of = {n: i for i, n in enumerate(names)}
-    details = [{"file": r["file"], "kind": r["kind"], "tm": r["tm_score"], "score": sc[r["file"]],
+    details = [{"file": r["file"], "kind": r["kind"], "tm": r["tm_score"], "lddt": round(float(lddt[i]), 4),
+                "score": sc[r["file"]],
                 "contrib": {c: round(float(v[row_of[r["file"]]]), 5) for c, v in contrib.items()},
                 "n_atoms": {c: int(np.isfinite(q[row_of[r["file"]], nuc == c]).sum()) for c in contrib}}
-               for r in recs]
+               for i, r in enumerate(recs)]
     geo = result_geometry(res)
     nat = kinds == "native_min"
     dec = [r for r in recs if r["kind"] != "native_min"]
@@ -100,6 +110,8 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
                             ("no" if thr.any() else "-")),
            "rho": _rho(scores, tm, np.ones(len(recs), bool)),
            "rho_near": _rho(scores, tm, ~thr),
+           "rho_lddt": _rho(scores, lddt, np.ones(len(recs), bool)),
+           "rho_lddt_near": _rho(scores, lddt, ~thr),
            "max_clash": max(g["clashes_per_1000"] for g in geo.values()),
            "max_severe": max(g["severe_pairs"] for g in geo.values()),
            "n_warned": sum(bool(g["bad"]) for g in geo.values()),
@@ -193,7 +205,9 @@ def render(rows: list[dict], missing: list[str], command: str, wall: float | Non
          "TM: TM-score to the native (Zhang & Skolnick 2004). rho: Spearman correlation of score "
          "with 1 - TM (positive = models further from the native score worse) over all models, "
          "over native + torsion + ladder (no threaded models), and per family (native + that "
-         "family's models). Best group: the models the paired bootstrap over residues cannot separate "
+         "family's models). lDDT (summary only): CA-only local distance difference test to the native (Mariani et "
+         "al. 2013; tools/tmscore.py), superposition-free, so it measures local rather than global "
+         "agreement; shown as a diagnostic, the goal is stated with TM. Best group: the models the paired bootstrap over residues cannot separate "
          "from the best one (docs/outputs.md). Thread worst: every threaded model scores worse than every other model. "
          "Geometry columns: the worst model's clashes per 1000 heavy atoms and pairs below 2 Å, "
          "models warned, candidates rejected by the geometry rule.", ""]
@@ -220,7 +234,10 @@ def render(rows: list[dict], missing: list[str], command: str, wall: float | Non
           f"* mean rho without the threaded models: {_mean(rows, 'rho_near')}",
           f"* mean rho, ladder family: {_mean(rows, 'rho_ladder')}",
           f"* mean rho, torsion family: {_mean(rows, 'rho_torsion')}",
-          f"* threaded wrong folds all worse than every other model: {tw} of {nt} proteins"]
+          f"* threaded wrong folds all worse than every other model: {tw} of {nt} proteins",
+          f"* diagnostic, against a local similarity instead (CA lDDT, Mariani et al. 2013): mean rho "
+          f"{_mean(rows, 'rho_lddt')} over all models, {_mean(rows, 'rho_lddt_near')} without the "
+          "threaded ones"]
     if missing:
         L += ["", "No decoys generated for: " + ", ".join(missing) + "."]
     L += [""] + diagnose(rows)
