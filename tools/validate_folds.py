@@ -255,12 +255,27 @@ def main(argv=None) -> int:
     ap.add_argument("--decoys", default=str(Path(__file__).resolve().parents[1] / ".cache" / "decoys"))
     ap.add_argument("--doc", default=str(Path(__file__).resolve().parents[1] / "docs" / "validation.md"))
     ap.add_argument("--only", nargs="*", default=None)
+    ap.add_argument("--reuse", action="store_true",
+                    help="reuse a protein's stored result (<decoys>/<folder>/fold_result.json) when it is "
+                         "newer than its manifest and than this script and the package (for runs that "
+                         "add proteins one at a time)")
     ap.add_argument("--diagnosis", default=str(Path(__file__).resolve().parent / "fold_diagnosis.md"),
                     help="hand-written diagnosis paragraph appended to the section (if the file exists)")
     a = ap.parse_args(argv)
     rows, missing = [], []
+    newest_code = max(f.stat().st_mtime for f in [Path(__file__), Path(__file__).parent / "tmscore.py",
+                                                    *(Path(__file__).parents[1] / "shiftcheck").rglob("*.*")]
+                      if f.suffix in (".py", ".json"))
     for folder in a.only or list(TRAINING):
-        r = fold_run(Path(a.realdata), Path(a.decoys), folder)
+        stored = Path(a.decoys) / folder / "fold_result.json"
+        man = Path(a.decoys) / folder / "manifest.json"
+        if a.reuse and stored.exists() and man.exists() and \
+                stored.stat().st_mtime > max(man.stat().st_mtime, newest_code):
+            r = json.loads(stored.read_text())
+        else:
+            r = fold_run(Path(a.realdata), Path(a.decoys), folder)
+            if r is not None:
+                stored.write_text(json.dumps(r, default=float) + "\n")
         if r is None:
             missing.append(folder)
             continue
