@@ -174,12 +174,12 @@ def diagnose(rows: list[dict]) -> list[str]:
 
 
 def render(rows: list[dict], missing: list[str], command: str, wall: float | None = None,
-           diagnosis: list[str] | None = None) -> str:
+           diagnosis: list[str] | None = None, note: str = "") -> str:
     first = sum(r["native_rank"] == 1 for r in rows)
     total = sum(r["seconds"] for r in rows)
     gen = f"{total / 60:.0f} min of generation summed over proteins"
     if wall:
-        gen += f", {wall / 60:.0f} min wall time with 2 workers on 2 shared cores"
+        gen += f", {wall / 60:.0f} min wall time" + (f" ({note})" if note else "")
     L = ["## Fold selection on plausible decoys", "",
          "Regenerate with `make decoys` (tools/plausible_decoys.py, fixed seeds; "
          f"{gen}) then `{command}` (tools/validate_folds.py).", "",
@@ -287,13 +287,15 @@ def main(argv=None) -> int:
         print("no decoys found: run `make decoys` first", file=sys.stderr)
         return 2
     (Path(a.decoys) / "fold_details.json").write_text(json.dumps(rows, indent=1, default=float) + "\n")
-    wall = None
+    wall, note = None, ""
     summ = Path(a.decoys) / "summary.json"
     if summ.exists():
-        wall = sum(r["wall_seconds"] for r in json.loads(summ.read_text()).get("runs", [])) or None
+        runs = json.loads(summ.read_text()).get("runs", [])
+        wall = sum(r["wall_seconds"] for r in runs) or None
+        note = "; ".join(r["note"] for r in runs if r.get("note"))
     diag = Path(a.diagnosis)
     text = render(rows, missing, "SHIFTCHECK_REALDATA=../shared/realdata python tools/validate_folds.py",
-                  wall, diag.read_text().strip().splitlines() if diag.exists() else None)
+                  wall, diag.read_text().strip().splitlines() if diag.exists() else None, note)
     write_section(Path(a.doc), text, name="folds")
     print(text)
     return 0
