@@ -93,8 +93,7 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
     dec = [r for r in recs if r["kind"] != "native_min"]
     thr = kinds == "thread"
     best = int(np.argmin(np.where(nat, np.inf, scores)))
-    out = {"protein": folder.split("/")[-1], "folder": folder, "native": man["native"] +
-           (f" ({man['chain']})" if man.get("chain") else ""),
+    out = {"protein": folder.split("/")[-1], "folder": folder, "native": native_label(folder),
            "n_torsion": int((kinds == "torsion").sum()), "n_ladder": int((kinds == "ladder").sum()),
            "n_thread": int(thr.sum()), "tm_native_min": recs[0]["tm_score"],
            "tm_range": f"{min(r['tm_score'] for r in dec):.2f}-{max(r['tm_score'] for r in dec):.2f}",
@@ -120,6 +119,12 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
     for fam in FAMILIES:
         out[f"rho_{fam}"] = _rho(scores, tm, nat | (kinds == fam))
     return out
+
+
+def native_label(folder: str) -> str:
+    """The native as the pairs file names it (a pattern for the archive's re-calculations)."""
+    _, rel, chain = TRAINING[folder]
+    return rel + (f" ({chain})" if chain else "")
 
 
 def _mean(rows, key) -> str:
@@ -279,6 +284,7 @@ def main(argv=None) -> int:
         if r is None:
             missing.append(folder)
             continue
+        r["native"] = native_label(folder)
         rows.append(r)
         print(f"{folder}: rank {r['native_rank']}/{r['n_models']} rho {r['rho']:.2f} "
               f"(no-thread {r['rho_near']:.2f}, ladder {r['rho_ladder']:.2f}, torsion {r['rho_torsion']:.2f}, "
