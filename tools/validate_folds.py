@@ -124,7 +124,7 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
 def native_label(folder: str) -> str:
     """The native as the pairs file names it (a pattern for the archive's re-calculations)."""
     _, rel, chain = TRAINING[folder]
-    return rel + (f" ({chain})" if chain else "")
+    return f"`{rel}`" + (f" ({chain})" if chain else "")
 
 
 def _mean(rows, key) -> str:
