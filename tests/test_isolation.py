@@ -104,3 +104,29 @@ def test_protein_on_chain_b_error_suggests_chain(realdata, tmp_path, capsys):
     err = capsys.readouterr().err.strip()
     assert "\n" not in err and "--chain B" in err
     assert _score(str(sm / "akmt_d34a_shifts.str21"), [str(f)], tmp_path / "out", "--chain", "B") == 0
+
+
+def test_inspect_describes_every_readable_file_and_names_the_rest(realdata, tmp_path, capsys):
+    """``inspect`` reads each file on its own: the waters-only file is listed as unreadable, the
+    two server models are still described, and the exit code is 2 with a one-line error."""
+    shifts, models = _files(realdata, tmp_path)
+    assert main(["inspect", shifts, *models[:3]]) == 2
+    cap = capsys.readouterr()
+    assert "itasser_1.pdb" in cap.out and "foldpro_1.pdb" in cap.out
+    assert "Unreadable model files (1):" in cap.out and "no protein residues" in cap.out
+    err = cap.err.strip()
+    assert "\n" not in err and "waters.pdb" in err
+
+
+def test_check_leaves_out_unusable_models(realdata, tmp_path, capsys):
+    """``check`` with models: the unreadable and the other-protein files are named on stderr,
+    the findings are compared with the usable models, exit 0; with none usable, exit 2."""
+    shifts, models = _files(realdata, tmp_path)
+    assert main(["check", shifts, *models]) == 0
+    cap = capsys.readouterr()
+    assert cap.err.count("skipped:") == 2
+    assert "waters.pdb" in cap.err and "2OED.pdb" in cap.err
+    assert "shifts;" in cap.out
+    assert main(["check", shifts, *models[2:]]) == 2
+    err = capsys.readouterr().err.strip()
+    assert "\n" not in err and "no model left" in err

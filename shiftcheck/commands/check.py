@@ -3,12 +3,14 @@
 Values outside the usual range, placeholders, duplicated atoms, CA/CB swaps, cis-Pro evidence and
 Cys redox state (:mod:`shiftcheck.score.datacheck`). With models, the cis-Pro and Cys findings are
 compared with the models' peptide bonds and disulfides. Prints one line per finding; exit 0
-(findings are advice, not errors), 2 on unreadable input.
+(findings are advice, not errors), 2 on an unreadable shift list or when no model is usable (a
+model file that cannot be read, or of another protein, is named on stderr and left out).
 """
 from __future__ import annotations
 
 import argparse
 import json
+import sys
 
 from .score import add_common_options
 
@@ -37,12 +39,18 @@ def run(args) -> int:
 
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
     findings = check_shifts(shifts)
-    if args.models:
-        from ..io.coords import read_models
-        from ..structure.mapping import map_sequence
+    skipped = []
+    if args.models:     # models are advisory here: an unusable one is named and left out
+        from ..isolation import map_models_tolerant, no_model_left, read_models_tolerant
 
-        ens = read_models(args.models, chain=args.chain, build_hydrogens=False)
-        findings = check_against_models(findings, ens, [map_sequence(shifts, e) for e in ens])
+        ens, skipped = read_models_tolerant(args.models, chain=args.chain, build_hydrogens=False)
+        ens, maps, more = map_models_tolerant(shifts, ens)
+        skipped += more
+        if not ens:
+            raise no_model_left(skipped)
+        findings = check_against_models(findings, ens, maps)
+    for s in skipped:
+        print(f"shiftcheck: warning: {s.file}: skipped: {s.reason}", file=sys.stderr)
     if args.json:
         print(json.dumps([f.as_dict() for f in findings], indent=1))
         return 0

@@ -112,13 +112,20 @@ def describe(shifts: ShiftList, ensembles: Sequence[Ensemble], min_identity=None
 
 
 def run(args) -> int:
-    from ..io.coords import read_models
     from ..io.shift_formats import read_shifts
+    from ..isolation import read_models_tolerant
 
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
-    ensembles = read_models(args.models, chain=args.chain) if args.models else []
+    # every file is described even when some cannot be read (the unreadable ones are listed)
+    ensembles, unreadable = read_models_tolerant(args.models, chain=args.chain) if args.models else ([], [])
     text, failed = describe(shifts, ensembles, min_identity=args.min_identity, alignment=args.alignment)
+    if unreadable:
+        text += f"\nUnreadable model files ({len(unreadable)}):\n" + "\n".join(
+            f"  {s.file}: {s.reason}" for s in unreadable)
     print(text, flush=True)
-    if failed:  # shifts of another protein: the CLI prints one line and exits 2
+    # an unreadable file, or shifts of another protein: the CLI prints one line and exits 2
+    if unreadable:
+        raise unreadable[0].error
+    if failed:
         raise failed[0]
     return 0
