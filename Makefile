@@ -30,8 +30,9 @@ validation: install
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_scoring.py
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/validate_folds.py
 
-# Fold-selection decoys (minimised torsion decoys + threaded wrong folds) into .cache/decoys/
-# (outside git); development-only OpenMM + PDBFixer; about 15 min on 2 cores, fixed seeds.
+# Fold-selection decoys (minimised torsion decoys, perturbation ladder, threaded wrong folds) into .cache/decoys/
+# (outside git); development-only OpenMM + PDBFixer; fixed seeds; 2 worker processes (see
+# docs/validation.md, fold-selection section, for the measured time).
 decoys: install
 	$(BIN)/python -m pip install --quiet -e '.[decoys]'
 	SHIFTCHECK_REALDATA=$(SHIFTCHECK_REALDATA) $(BIN)/python tools/plausible_decoys.py

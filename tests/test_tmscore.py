@@ -74,3 +74,39 @@ def test_against_brute_force_optimal_superposition():
     ours = tm_score(P, Q)
     ref = _brute_force(P, Q)
     assert ours == pytest.approx(ref, abs=0.01)
+
+
+def test_partial_model_normalised_by_native_length():
+    # Zhang & Skolnick 2004: TM = (1/L_native) sum_i 1/(1+(d_i/d0(L_native))^2); residues the
+    # model lacks count zero. An exact copy of 60 of 80 residues: 60/80, with d0 of 80 (any d0
+    # gives 1 per residue at distance 0).
+    x = _chain(80, 4)
+    assert tm_score(x[:60], x[:60], length=80) == pytest.approx(60 / 80, abs=1e-12)
+    # a perturbed partial copy: the value equals the full-length sum formula at the same pose
+    rng = np.random.default_rng(5)
+    y = x[:60] + rng.normal(0, 1.0, (60, 3))
+    dist = np.linalg.norm(y - x[:60], axis=1)
+    at_identity = np.sum(1 / (1 + (dist / d0(80)) ** 2)) / 80
+    assert tm_score(y, x[:60], length=80) >= at_identity - 1e-12
+    assert tm_score(y, x[:60], length=80) < 60 / 80
+    with pytest.raises(ValueError):
+        tm_score(y, x[:60], length=50)
+
+
+def test_lddt_ca_by_hand():
+    """CA lDDT (Mariani et al. 2013): identical = 1, rigid motion = 1 (superposition-free); a
+    4-point case counted by hand; a missing residue counts as not preserved."""
+    from tmscore import lddt_ca
+
+    x = _chain(30, 7)
+    R = Rotation.random(random_state=2)
+    assert lddt_ca(x, x) == 1.0 and lddt_ca(R.apply(x) + 5.0, x) == pytest.approx(1.0)
+    nat = np.array([[0.0, 0, 0], [3.8, 0, 0], [7.6, 0, 0], [30.0, 0, 0]])   # residue 4 far away
+    mod = nat.copy()
+    mod[2, 0] += 1.5                      # pair (1,3) 7.6 -> 9.1, pair (2,3) 3.8 -> 5.3
+    # ordered pairs within 15 A: (1,2),(1,3),(2,3) both ways = 6; pairs (1,3),(2,3) differ by 1.5:
+    # preserved at 2 and 4 A, not at 0.5 and 1 A -> fractions 2/6, 2/6, 6/6, 6/6 -> mean 2/3
+    assert lddt_ca(mod, nat) == pytest.approx((2 / 6 + 2 / 6 + 1 + 1) / 4)
+    gone = nat.copy()
+    gone[0] = np.nan                      # 4 of the 6 ordered pairs lose their partner
+    assert lddt_ca(gone, nat) == pytest.approx(2 / 6)

@@ -46,13 +46,23 @@ def _kabsch(P: np.ndarray, Q: np.ndarray, W: np.ndarray):
     return R, t
 
 
-def tm_score(model: np.ndarray, native: np.ndarray, n_iter: int = 20) -> float:
-    """TM-score of ``model`` (L, 3) CA coordinates against ``native`` (L, 3), same residue order."""
+def tm_score(model: np.ndarray, native: np.ndarray, n_iter: int = 20, length: int | None = None) -> float:
+    """TM-score of ``model`` (L, 3) CA coordinates against ``native`` (L, 3), same residue order.
+
+    ``length``: the native's full length when only L of its residues have a model counterpart
+    (a model covering part of the chain); d0 and the 1/L normalisation then use ``length``, so
+    the residues the model lacks count zero, as in the paper's definition (TM normalised by the
+    native's length). Default: L.
+    """
     P, Q = np.asarray(model, float), np.asarray(native, float)
     L = len(Q)
     if L < 3:
         raise ValueError("TM-score needs at least 3 residues")
-    dsearch = float(np.clip(d0(L), 4.5, 8.0))
+    norm = L if length is None else int(length)
+    if norm < L:
+        raise ValueError("length must be at least the number of aligned residues")
+    dz = d0(norm)
+    dsearch = float(np.clip(dz, 4.5, 8.0))
     seeds = []
     ln = L
     while ln >= 4 or not seeds:
@@ -70,7 +80,7 @@ def tm_score(model: np.ndarray, native: np.ndarray, n_iter: int = 20) -> float:
         R, t = _kabsch(P, Q, W)
         moved = np.einsum("sij,lj->sli", R, P) + t[:, None, :]
         dist = np.linalg.norm(moved - Q, axis=-1)
-        best = max(best, float(np.max(np.mean(1.0 / (1.0 + (dist / d0(L)) ** 2), axis=1))))
+        best = max(best, float(np.max(np.sum(1.0 / (1.0 + (dist / dz) ** 2), axis=1))) / norm)
         newW = (dist < dsearch).astype(float)
         few = newW.sum(axis=1) < 3                      # keep at least the 3 closest residues
         if few.any():
@@ -82,3 +92,22 @@ def tm_score(model: np.ndarray, native: np.ndarray, n_iter: int = 20) -> float:
             break
         W = np.unique(newW, axis=0)
     return best
+
+
+def lddt_ca(model: np.ndarray, native: np.ndarray, radius: float = 15.0,
+            thresholds: tuple[float, ...] = (0.5, 1.0, 2.0, 4.0)) -> float:
+    """CA-only lDDT (local distance difference test, Mariani et al. 2013, Bioinformatics 29:2722):
+    over all residue pairs closer than ``radius`` (15 Å) in the native, the fraction whose model
+    distance differs from the native one by less than each threshold (0.5, 1, 2, 4 Å), averaged
+    over the thresholds. Superposition-free, so it measures local agreement. Rows of ``model``
+    that are NaN (residues the model lacks) count as not preserved."""
+    P, Q = np.asarray(model, float), np.asarray(native, float)
+    dq = np.linalg.norm(Q[:, None] - Q[None], axis=-1)
+    dp = np.linalg.norm(P[:, None] - P[None], axis=-1)
+    n = len(Q)
+    pair = (dq < radius) & ~np.eye(n, dtype=bool) & np.isfinite(dq)
+    if not pair.any():
+        raise ValueError("no residue pairs within the inclusion radius")
+    diff = np.abs(dp - dq)[pair]
+    diff = np.where(np.isfinite(diff), diff, np.inf)
+    return float(np.mean([(diff < t).mean() for t in thresholds]))
