@@ -1,14 +1,14 @@
 """`shiftcheck score` on every folder of the public data: each shift file of a folder against all
-of that folder's coordinate files, with the report (source of the data: BMRB and PDB entries
-listed in SHIFTCHECK_REALDATA/README.md). Checks the three tables' columns (issue contract,
-docs/outputs.md), that the best model is one of the inputs, and that report.pdf and the PNG
-plots exist."""
+of that folder's coordinate files (source of the data: BMRB and PDB entries listed in
+SHIFTCHECK_REALDATA/README.md). Checks the three tables' columns (issue contract,
+docs/outputs.md) and that the best model is one of the inputs. Without the report (it took two
+thirds of this test's time): report.pdf and the plots of real data are checked by
+tests/test_report.py::test_realdata_score_then_report and tests/test_html_report.py."""
 from __future__ import annotations
 
 import csv
 import json
 import os
-from pathlib import Path
 
 import pytest
 
@@ -38,7 +38,8 @@ def _cases():
 def test_score_every_folder(shifts, tmp_path, capsys):
     models = sorted(str(p) for p in shifts.parent.glob("*.pdb"))
     out = tmp_path / "out"
-    code = main(["score", str(shifts), *models, "-o", str(out), "--bootstrap", "100", "--quiet"])
+    code = main(["score", str(shifts), *models, "-o", str(out), "--bootstrap", "100", "--quiet",
+                 "--no-report"])
     assert code == 0, capsys.readouterr().err
     with open(out / "ranking.csv", newline="") as fh:
         rows = list(csv.reader(fh))
@@ -52,5 +53,3 @@ def test_score_every_folder(shifts, tmp_path, capsys):
     assert head[:len(RESIDUE_HEAD)] == RESIDUE_HEAD
     summary = json.loads((out / "summary.json").read_text())
     assert summary["best_model"] == names[0]
-    assert (out / "report.pdf").stat().st_size > 10_000
-    assert list(Path(out / "plots").glob("*.png"))
