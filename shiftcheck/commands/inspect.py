@@ -10,7 +10,6 @@ import argparse
 from collections import Counter
 from typing import TYPE_CHECKING
 
-import numpy as np
 
 if TYPE_CHECKING:
     from collections.abc import Sequence
@@ -42,6 +41,8 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
 
 
 def _shift_block(shifts) -> list[str]:
+    import numpy as np
+
     from ..chem.nuclei import nucleus_class
 
     out = [f"Shifts: {shifts.source}"]
@@ -68,6 +69,8 @@ def _shift_block(shifts) -> list[str]:
 
 
 def _model_block(ens) -> list[str]:
+    import numpy as np
+
     n_h = int(np.sum(ens.element == "H"))
     n_built = int(np.sum(ens.built))
     out = [f"Models: {ens.name} ({', '.join(ens.sources)})"]
