@@ -10,7 +10,6 @@ import argparse
 from collections import Counter
 from typing import TYPE_CHECKING
 
-
 if TYPE_CHECKING:
     from collections.abc import Sequence
     from ..shiftlist import ShiftList
@@ -120,7 +119,8 @@ def run(args) -> int:
 
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
     # every file is described even when some cannot be read (the unreadable ones are listed)
-    ensembles, unreadable = read_models_tolerant(args.models, chain=args.chain) if args.models else ([], [])
+    ensembles, unreadable = ([], []) if not args.models else read_models_tolerant(args.models,
+                                                                                   chain=args.chain)
     text, failed = describe(shifts, ensembles, min_identity=args.min_identity, alignment=args.alignment)
     if unreadable:
         text += f"\nUnreadable model files ({len(unreadable)}):\n" + "\n".join(

@@ -249,8 +249,9 @@ def summary_document(res: ScoreResult, created: str | None = None, *, rows: list
                           "r": _num(res.metrics[x]["r"][i]), "n": int(res.metrics[x]["n"])}
                       for x in ALL_CLASSES})
         for i, entry in enumerate(comp.entries)))
-    ranking = Lazy("list", lambda: ({k: r[k] for k in ("rank", "model", "score", "score_low", "score_high",
-                                                       "p_best", "best_group")} for r in (ranking_rows(res) if rows is None else rows)))
+    keys = ("rank", "model", "score", "score_low", "score_high", "p_best", "best_group")
+    ranking = Lazy("list", lambda: ({k: r[k] for k in keys}
+                                    for r in (ranking_rows(res) if rows is None else rows)))
     corr = res.correction
     flags = []
     listed = rk.order[:FLAG_ENTRIES]
