@@ -15,7 +15,7 @@ from .conformation import conformation_features
 from .randomcoil import _methyl_key
 
 __all__ = ["ring_factors", "offset", "neighbour", "conformation", "ring_current", "hbond", "anisotropy", "burial",
-           "hbond_basis", "sidechain"]
+           "hbond_basis", "sidechain", "efield"]
 
 #: Hydrogen-bond features used per nucleus class (names from shiftcheck.predict.hbond).
 HBOND_FEATURES = {"H": ("hn_r3", "hn_r3_sc"), "N": ("n_hb",), "HA": ("ha_r3",), "C": ("c_hb",)}
@@ -138,3 +138,11 @@ def burial(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     got = sf.cached(("burial", nucleus, json.dumps(settings.burial, sort_keys=True)),
                     lambda: burial_features(sf.ens, _selected(sf, nucleus), settings.burial))
     return {f: np.nan_to_num(g) for f, g in got.items()}
+
+
+def efield(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
+    """Buckingham electric-field terms of H/HA (:mod:`shiftcheck.predict.efield`)."""
+    from .efield import efield_features
+
+    got = sf.cached(("efield", nucleus), lambda: efield_features(sf.ens, _selected(sf, nucleus)))
+    return {f"ef:{f}": g for f, g in got.items()}
