@@ -45,6 +45,24 @@ def test_neighbour_blocks_take_the_neighbours_torsions():
     assert "prev:phi_sin2*psi_cos2" in n_new and "chi1_cos1" in n_new
 
 
+def test_residue_class_order_can_differ_per_nucleus():
+    # definition of the setting (common practice, no source): an int is one order for every
+    # class; a dict names orders per nucleus class with "default" for the rest. A 2-D Fourier
+    # basis of order k has 4k + 4k^2 columns (8 for k = 1, 24 for k = 2), per residue class
+    tors = {"phi": np.array([[-60.0, -120.0]]), "psi": np.array([[-40.0, 130.0]])}
+    res = np.array(["GLY", "VAL"])
+    co = {"default": 1, "CA": 2}
+    for nuc, k in (("CA", 24), ("H", 8)):
+        names, f = conformation_features(tors, res, nuc, 2, co, neighbours={}, chi1={})
+        gly = [n for n in names if n.startswith("GLY:")]
+        assert len(gly) == k and f.shape[-1] == len(names)
+        same, _ = conformation_features(tors, res, nuc, 2, 2 if k == 24 else 1, neighbours={}, chi1={})
+        assert same == names
+        # the Gly block is zero on the Val residue and the Val (beta-branched) block on Gly
+        g = [names.index(n) for n in gly]
+        assert np.all(f[0, 1, g] == 0) and np.any(f[0, 0, g] != 0)
+
+
 @pytest.fixture(scope="session")
 def ubq(realdata):
     return read_models([str(realdata / "ubiquitin" / "1D3Z.pdb")])[0]

@@ -96,8 +96,16 @@ def neighbour_block(torsions: dict[str, np.ndarray], kind: str, shift: int, orde
     return fourier_1d(_shifted(torsions[kind], shift), int(order), f"{kind}_{tag}_")
 
 
+def class_order_for(class_order: int | dict, nucleus: str) -> int:
+    """Order of the residue-class blocks for ``nucleus``: an int applies to every class; a dict
+    maps nucleus class -> order with ``"default"`` (else 1) for the classes it does not name."""
+    if isinstance(class_order, dict):
+        return int(class_order.get(nucleus, class_order.get("default", 1)))
+    return int(class_order)
+
+
 def conformation_features(torsions: dict[str, np.ndarray], res_name: np.ndarray, nucleus: str,
-                          order: int = 2, class_order: int = 1, neighbours: dict | None = None,
+                          order: int = 2, class_order: int | dict = 1, neighbours: dict | None = None,
                           chi1: dict | None = None) -> tuple[list[str], np.ndarray]:
     """Per-residue conformation features for one nucleus class, (n_models, n_res, n_features).
 
@@ -108,8 +116,11 @@ def conformation_features(torsions: dict[str, np.ndarray], res_name: np.ndarray,
     res_name : array (n_res,)
     nucleus : str
         Nucleus class.
-    order, class_order : int
-        Fourier orders of the shared and the residue-class-specific blocks.
+    order : int
+        Fourier order of the shared block.
+    class_order : int or dict
+        Fourier order of the residue-class-specific (Gly, Pro, β-branched) blocks: one order for
+        every nucleus class, or ``{nucleus: order, "default": order}`` (:func:`class_order_for`).
     neighbours : dict, optional
         Nucleus class -> list of ``[kind, shift, order]`` neighbour blocks (see
         :func:`neighbour_block`); default :data:`LEGACY_NEIGHBOURS`.
@@ -120,7 +131,7 @@ def conformation_features(torsions: dict[str, np.ndarray], res_name: np.ndarray,
     names, shared = fourier_2d(phi, psi, order)
     blocks, feats = [names], [shared]
     cls = residue_class(res_name)
-    cn, cf = fourier_2d(phi, psi, class_order)
+    cn, cf = fourier_2d(phi, psi, class_order_for(class_order, nucleus))
     for c in ("GLY", "PRO", "BETA"):
         mask = (cls == c)[None, :, None]
         blocks.append([f"{c}:{n}" for n in cn])

@@ -80,7 +80,7 @@ def conformation(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     """φ/ψ Fourier basis, neighbour torsions, χ1 (:mod:`shiftcheck.predict.conformation`)."""
     conf = settings.conformation
     cn, cf = conformation_features(sf.torsions, sf.ens.res_name, nucleus,
-                                   int(conf.get("order", 2)), int(conf.get("class_order", 1)),
+                                   int(conf.get("order", 2)), conf.get("class_order", 1),
                                    conf.get("neighbours"), conf.get("chi1"))
     ri = sf.targets.res_index[sel]
     return {f"conf:{n}": cf[:, ri, k] for k, n in enumerate(cn)}
