@@ -42,7 +42,8 @@ STEPS = [("random coil (table + corrections)", ()),
           ("offset", "conformation", "neighbour", "ring_current", "hbond", "anisotropy")),
          ("+ burial (CB, C, N)", _BASE),
          ("+ χ1/χ2 per side-chain class (CA, CB, N)", _BASE + ("sidechain",)),
-         ("+ fitted H-bond basis (H; full model)", _BASE + ("sidechain", "hbond_basis"))]
+         ("+ fitted H-bond basis (H)", _BASE + ("sidechain", "hbond_basis")),
+         ("+ electric field (CA, C, N; full model)", _BASE + ("sidechain", "hbond_basis", "efield"))]
 BEGIN, END = "<!-- BEGIN predictor -->", "<!-- END predictor -->"
 
 
