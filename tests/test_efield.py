@@ -121,3 +121,26 @@ def test_charge_placement_and_rigid_motion():
     mv = efield_features(moved, t)
     for k in got:
         np.testing.assert_allclose(mv[k], got[k], rtol=1e-9, atol=1e-12)
+
+
+def test_cb_field_is_projected_on_the_ca_cb_bond(realdata):
+    # CB carries the CA->CB bond: its feature is the field (minus the numerical gradient of the
+    # Coulomb potential, computed here) projected on that bond; public PDB 1UBQ (ubiquitin)
+    from shiftcheck.io.coords import read_models
+
+    ens = read_models([str(realdata / "ubiquitin" / "1ubq.pdb")])[0]
+    sites = charge_sites(ens)
+    t = np.flatnonzero(ens.atom_name == "CB")[::9]
+    got = efield_features(ens, t, cutoff=1e3)
+    h = 1e-4
+    for ti, a in enumerate(t):
+        ri = ens.atom_res[a]
+        keep = ~((sites["lo"] <= ri) & (ri <= sites["hi"])) & np.isfinite(sites["xyz"][0]).all(axis=1)
+        xyz, q = sites["xyz"][0][keep], sites["q"][keep]
+        p = ens.coords[0, a]
+        u = p - ens.coords[0, ens.index(ri, "CA")]
+        u /= np.linalg.norm(u)
+        grad = np.array([(_potential(p + h * d, xyz, q) - _potential(p - h * d, xyz, q)) / (2 * h)
+                         for d in np.eye(3)])
+        assert got["ef_bb"][0, ti] + got["ef_sc"][0, ti] == pytest.approx(-grad @ u, rel=1e-5, abs=1e-8)
+        assert got["ef_sq"][0, ti] > 0

@@ -84,7 +84,7 @@ VARIANTS = [
     ("− χ1 (CB, N)", _set_conf("chi1", {}), "mean"),
     ("− χ1/χ2 per side-chain class (CA, CB, N; new)", _drop_group("sidechain"), "mean"),
     ("− fitted H-bond distance/angle basis (H; new)", _drop_group("hbond_basis"), "mean"),
-    ("− electric field (CA, C, N; new)", _drop_group("efield"), "mean"),
+    ("− electric field (CA, CB, C, N; new)", _drop_group("efield"), "mean"),
     ("− residue-class φ/ψ order 2 for CA, N (order 1 everywhere; new)", _set_conf("class_order", 1), "mean"),
     ("+ electric field for H, HA (not kept)", _add_group("efield", ("H", "HA")), "mean"),
     ("+ fitted H-bond basis for HA (not kept)", _add_group("hbond_basis", ("HA",)), "mean"),

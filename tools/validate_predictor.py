@@ -43,7 +43,7 @@ STEPS = [("random coil (table + corrections)", ()),
          ("+ burial (CB, C, N)", _BASE),
          ("+ χ1/χ2 per side-chain class (CA, CB, N)", _BASE + ("sidechain",)),
          ("+ fitted H-bond basis (H)", _BASE + ("sidechain", "hbond_basis")),
-         ("+ electric field (CA, C, N; full model)", _BASE + ("sidechain", "hbond_basis", "efield"))]
+         ("+ electric field (CA, CB, C, N; full model)", _BASE + ("sidechain", "hbond_basis", "efield"))]
 BEGIN, END = "<!-- BEGIN predictor -->", "<!-- END predictor -->"
 
 

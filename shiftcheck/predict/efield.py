@@ -22,9 +22,9 @@ do, so that models with and without hydrogens see the same charges; none on a pr
 charges on Asp, Glu, Lys, Arg and the chain termini. Excluded for a proton of residue i: the
 peptide groups i−1 and i (they hold atoms of residue i, so their field follows from the local
 conformation the torsion terms describe) and residue i's own side-chain and terminal charges.
-The same field, at the atom and projected on the N–H, C=O or CA–HA bond it carries, is
-computed for backbone N, C and CA (the bond's polarisation by the field); other targets (CB,
-methyl and aromatic protons) get 0.
+The same field, at the atom and projected on the N–H, C=O, CA–HA or CA–CB bond it carries, is
+computed for backbone N, C, CA and for CB (the bond's polarisation by the field); other targets
+(methyl and aromatic protons) get 0.
 """
 from __future__ import annotations
 
@@ -43,9 +43,9 @@ __all__ = ["efield_parameters", "charge_sites", "field_at", "efield_features", "
 
 #: Target atom name -> the two atoms (same residue) whose vector is the field's projection axis:
 #: the X–H bond for protons; for the backbone heavy atoms the N–H, C=O and CA–HA bond they carry
-#: (Gly CA: HA2; a Pro N has no H and gets 0).
+#: (Gly CA: HA2; a Pro N has no H and gets 0); for CB the CA→CB bond.
 AXIS = {"H": ("N", "H"), "HA": ("CA", "HA"), "HA2": ("CA", "HA2"), "HA3": ("CA", "HA3"),
-        "N": ("N", "H"), "C": ("C", "O"), "CA": ("CA", "HA")}
+        "N": ("N", "H"), "C": ("C", "O"), "CA": ("CA", "HA"), "CB": ("CA", "CB")}
 
 
 @lru_cache(maxsize=1)

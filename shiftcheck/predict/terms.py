@@ -82,7 +82,7 @@ REGISTRY: tuple[Term, ...] = (
     Term("burial", ("bur:", "hse:"), "burial", ("CB", "C", "N"), f"{_COLS}:burial"),
     Term("hbond_basis", ("hbx:",), "hbond", ("H",), f"{_COLS}:hbond_basis"),
     Term("sidechain", ("sc:",), "conformation", ("CA", "CB", "N"), f"{_COLS}:sidechain"),
-    Term("efield", ("ef:",), "electric_field", ("CA", "C", "N"), f"{_COLS}:efield"),
+    Term("efield", ("ef:",), "electric_field", ("CA", "CB", "C", "N"), f"{_COLS}:efield"),
 )
 
 #: Columns of :attr:`Prediction.terms`, in order: the fixed random-coil part, then each output
