@@ -1,4 +1,4 @@
-"""Electric-field features of backbone protons (Buckingham 1960), vectorised over models.
+"""Electric-field features of backbone atoms and CB (Buckingham 1960), vectorised over models.
 
 Buckingham (1960, Can. J. Chem. 38:300) writes the shielding change of a proton bonded to
 atom X in an external electric field **E** as ``Δσ = −A E_z − B E²`` (form from memory), E_z the
@@ -21,10 +21,12 @@ H +0.20 e on every bonded peptide group C(j) O(j) N(j+1) H(j+1) (H placed from N
 do, so that models with and without hydrogens see the same charges; none on a proline N), formal
 charges on Asp, Glu, Lys, Arg and the chain termini. Excluded for a proton of residue i: the
 peptide groups i−1 and i (they hold atoms of residue i, so their field follows from the local
-conformation the torsion terms describe) and residue i's own side-chain and terminal charges.
+conformation the torsion terms describe) and residue i's own side-chain and terminal charges
+(the same for every target atom of residue i).
 The same field, at the atom and projected on the N–H, C=O, CA–HA or CA–CB bond it carries, is
-computed for backbone N, C, CA and for CB (the bond's polarisation by the field); other targets
-(methyl and aromatic protons) get 0.
+computed for backbone N, C, CA and for CB (the bond's polarisation by the field; applying the
+proton form to heavy atoms is shiftcheck's extrapolation, kept where validation shows a gain);
+other targets (methyl and aromatic protons) get 0.
 """
 from __future__ import annotations
 
@@ -113,9 +115,9 @@ def charge_sites(ens: Ensemble) -> dict[str, np.ndarray]:
 
 
 def field_at(points: np.ndarray, res: np.ndarray, sites: dict, cutoff: float) -> tuple[np.ndarray, np.ndarray]:
-    """Field (e Å⁻²) at ``points`` (n_models, n_p, 3) of proton residues ``res`` (n_p,), split into
-    the backbone and the other charges: two arrays (n_models, n_p, 3). Sites within ``cutoff`` Å
-    and not excluded for the point's residue (``lo <= res <= hi``) contribute."""
+    """Field (e Å⁻²) at ``points`` (n_models, n_p, 3), target atoms of residues ``res`` (n_p,),
+    split into the backbone and the other charges: two arrays (n_models, n_p, 3). Sites within
+    ``cutoff`` Å and not excluded for the point's residue (``lo <= res <= hi``) contribute."""
     n_models, n_p = points.shape[:2]
     out = np.zeros((2, n_models * n_p, 3))
     m, i, s, dist = pairs_within(points, sites["xyz"], cutoff)
