@@ -14,7 +14,8 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["GroupedRows", "choose_lambda", "centred_residuals", "pooled_error", "tail_scale"]
+__all__ = ["GroupedRows", "choose_lambda", "centred_residuals", "pooled_error", "tail_scale",
+           "residue_factors", "choose_residue_shrinkage"]
 
 
 class GroupedRows:
@@ -121,6 +122,56 @@ def tail_scale(y, pred, group_of, tail: float) -> float:
     removed): the ``tail`` quantile of |r| divided by 3; NaN without residuals."""
     r, ok = centred_residuals(y, pred, group_of)
     return float(np.quantile(np.abs(r[ok]), tail) / 3.0) if ok.any() else float("nan")
+
+
+def _shrunk_ratios(r: np.ndarray, res_type: np.ndarray, n0: float) -> dict[str, float]:
+    """RMS of each residue type's residuals over the pooled RMS, shrunk towards 1 in log space
+    with weight k / (k + n0) for a type with k residuals (n0 = inf: every ratio 1)."""
+    rms = float(np.sqrt(np.mean(r ** 2)))
+    out = {}
+    for t in np.unique(res_type):
+        s = res_type == t
+        k = int(s.sum())
+        raw = float(np.sqrt(np.mean(r[s] ** 2))) / rms if rms > 0 else 1.0
+        out[str(t)] = 1.0 if not np.isfinite(n0) or raw <= 0 else float(np.exp(k / (k + n0) * np.log(raw)))
+    return out
+
+
+def residue_factors(r: np.ndarray, res_type: np.ndarray, n0: float, tail: float) -> dict[str, float]:
+    """Residue-type factors F_t of the expected error: σ of an atom of type t = σ_class · F_t.
+
+    ``r``: held-out residuals of one nucleus class (each protein's median removed), ``res_type``:
+    the residue name of each. The shape of F is the shrunk RMS ratio f_t of
+    :func:`_shrunk_ratios`; its scale is set so that σ_class · F_t stays tail-matched over the
+    whole class: F_t = f_t · q(|r| / f) / q(|r|), with q the ``tail`` quantile, i.e. the pooled
+    fraction of |z| > 3 is that of the class-wide σ (``tail_scale``).
+    """
+    r, res_type = np.asarray(r, float), np.asarray(res_type).astype(str)
+    f = _shrunk_ratios(r, res_type, n0)
+    fa = np.array([f[t] for t in res_type])
+    k = float(np.quantile(np.abs(r / fa), tail) / np.quantile(np.abs(r), tail))
+    return {t: v * k for t, v in f.items()}
+
+
+def choose_residue_shrinkage(r, res_type, group_of, grid, tail: float) -> tuple[float, dict[float, float]]:
+    """The shrinkage n0 of ``grid`` (plus inf = one σ for the class) with the lowest held-out
+    Gaussian negative log-likelihood per residual, Σ [log σ + z²/2] / N, each protein's σ taken
+    from the other proteins (factors of :func:`residue_factors` times their tail-matched scale).
+    Returns (n0, {n0: mean NLL}); ties go to the larger n0 (more shrinkage)."""
+    r, res_type, group_of = np.asarray(r, float), np.asarray(res_type).astype(str), np.asarray(group_of)
+    out = {}
+    for n0 in [float(v) for v in grid] + [float("inf")]:
+        nll = 0.0
+        for g in np.unique(group_of):
+            tr, te = group_of != g, group_of == g
+            f = _shrunk_ratios(r[tr], res_type[tr], n0)
+            ftr = np.array([f[t] for t in res_type[tr]])
+            s = float(np.quantile(np.abs(r[tr] / ftr), tail) / 3.0)
+            sig = s * np.array([f.get(t, 1.0) for t in res_type[te]])
+            nll += float(np.sum(np.log(sig) + 0.5 * (r[te] / sig) ** 2))
+        out[n0] = nll / r.size
+    best = min(out, key=lambda k: (round(out[k], 9), -k))
+    return best, out
 
 
 def choose_lambda(rows: GroupedRows, grid, iterations: int = 1) -> tuple[float, dict[float, float]]:

@@ -266,8 +266,10 @@ def summary_document(res: ScoreResult, created: str | None = None, *, rows: list
                           "measured": _num(comp.measured[j]), "offset": _num(corr[j]),
                           "predicted": _num(comp.predicted[e, j]), "residual": _num(r_e[j]),
                           "z": _num(z_e[j], 3), "class": str(res.outliers.klass[j]),
-                          "rule": f"|residual| > {res.outliers.k:g} x {res.expected_error[nuc]:g} ppm "
-                                  f"(expected error of {nuc})"})
+                          "rule": f"|residual| > {res.outliers.k:g} x {float(res.sigma[j]):.4g} ppm "
+                                  f"(expected error of {nuc}"
+                                  + (f" in {comp.comp_id[j]})" if str(comp.comp_id[j]).upper()
+                                     in res.expected_error_by_residue.get(nuc, {}) else ")")})
     left = {"counts": dict(sorted(comp.left_out.items())), "examples": comp.left_out_examples,
             "n_compared": len(comp), "n_residues": comp.n_residues,
             "n_stereo_swaps": res.n_stereo_swaps}
@@ -284,6 +286,8 @@ def summary_document(res: ScoreResult, created: str | None = None, *, rows: list
         "best_group": [comp.entries[i].name for i in rk.order if rk.best_group[i]],
         "expected_error": {k: _num(v) for k, v in res.expected_error.items()},
         "expected_error_source": res.expected_error_source,
+        "expected_error_by_residue": {c: {t: _num(v) for t, v in per.items()}
+                                      for c, per in res.expected_error_by_residue.items()},
         "nuclei": list(BACKBONE) + [x for x in ALL_CLASSES if x not in BACKBONE],
         "flags": flags,
         "flags_listed": {"entries": len(listed), "of": len(comp.entries),

@@ -31,6 +31,7 @@ if TYPE_CHECKING:
     from ..structure.mapping import Mapping
 
 __all__ = ["ScoreResult", "score", "score_comparison", "secondary_structure", "expected_errors",
+           "residue_error_factors", "atom_sigma",
            "ENTRY_BLOCK"]
 
 #: Entries scored together (fixed, so results do not depend on batching or --jobs).
@@ -52,7 +53,7 @@ class ScoreResult(ScoreTables):
     mappings: list
     comparison: Comparison
     offsets: dict[str, Offset]
-    sigma: np.ndarray             # (n,) expected error of each compared atom's nucleus
+    sigma: np.ndarray             # (n,) expected error of each compared atom (class σ × residue-type factor)
     score: np.ndarray
     metrics: dict[str, dict]
     ranking: Ranking
@@ -65,6 +66,7 @@ class ScoreResult(ScoreTables):
     parameters: dict
     n_stereo_swaps: int = 0
     warnings: list[str] = field(default_factory=list)
+    expected_error_by_residue: dict[str, dict[str, float]] = field(default_factory=dict)
     skipped: list = field(default_factory=list)   # isolation.Skipped: model files left out
 
     @property
@@ -124,6 +126,27 @@ def expected_errors(params: dict | None) -> tuple[dict[str, float], str]:
             if missing:
                 src += f" (fallback for {', '.join(missing)})"
     return out, src
+
+
+def residue_error_factors(params: dict | None) -> dict[str, dict[str, float]]:
+    """Residue-type factors of the expected error, {class: {residue name: factor}} from the
+    parameter file's ``expected_error.by_residue`` (empty without it: one σ per class)."""
+    ee = (params or {}).get("expected_error") if isinstance(params, dict) else None
+    br = ee.get("by_residue") if isinstance(ee, dict) else None
+    vals = br.get("values") if isinstance(br, dict) else None
+    if not isinstance(vals, dict):
+        return {}
+    return {c: {str(t).upper(): float(v) for t, v in per.items()
+                if isinstance(v, (int, float)) and not isinstance(v, bool) and v > 0}
+            for c, per in vals.items() if isinstance(per, dict)}
+
+
+def atom_sigma(nucleus: np.ndarray, comp_id: np.ndarray, sigma_map: dict[str, float],
+               factors: dict[str, dict[str, float]]) -> np.ndarray:
+    """Expected error (ppm) of each compared atom: its class's σ times its residue type's factor
+    (1 for a type without one, e.g. a non-standard residue)."""
+    return np.array([sigma_map[c] * factors.get(c, {}).get(str(t).upper(), 1.0)
+                     for c, t in zip(nucleus, comp_id)], dtype=float)
 
 
 def score(shifts: ShiftList, ensembles: list[Ensemble], mappings: list[Mapping],
@@ -211,7 +234,8 @@ def score_comparison(shifts: ShiftList, comp: Comparison, ensembles, mappings, *
     offsets = estimate_offsets(comp, mode=reref, n_boot=n_boot, seed=seed, weights=W)
     corr = np.array([offsets[i].correction for i in comp.isotope], dtype=float)
     meas_ref = comp.measured - corr
-    sigma = np.array([sigma_map[c] for c in comp.nucleus], dtype=float)
+    res_factors = residue_error_factors(pdict)
+    sigma = atom_sigma(comp.nucleus, comp.comp_id, sigma_map, res_factors)
     h = float(const["huber_h"]["value"])
     n_e, n = comp.predicted.shape
     is_mean = comp.is_mean
@@ -261,6 +285,7 @@ def score_comparison(shifts: ShiftList, comp: Comparison, ensembles, mappings, *
                        offsets=offsets, sigma=sigma, score=combined, metrics=metrics,
                        ranking=ranking, outliers=out, residue_summary=rsum, findings=findings,
                        secondary=secondary, expected_error=sigma_map, expected_error_source=sigma_src,
+                       expected_error_by_residue=res_factors,
                        parameters=parameters, n_stereo_swaps=swaps, warnings=warnings)
 
 
