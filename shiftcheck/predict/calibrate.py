@@ -200,19 +200,6 @@ def collect(datasets: list[Dataset], nucleus: str, groups, ring_model: str, orde
             np.concatenate(ys), np.concatenate(ds), np.concatenate(ws))
 
 
-def row_residue_types(datasets: list[Dataset], nucleus: str, screen: dict | None = None) -> np.ndarray:
-    """Residue name of every row :func:`collect` returns for ``nucleus`` (same order and screen)."""
-    bound = float((screen or {}).get("max_abs_secondary", {}).get(nucleus, np.inf))
-    out = []
-    for d in datasets:
-        sf = d.features
-        sel = np.flatnonzero(sf.targets.nucleus == nucleus)
-        y = d.measured[sel] - sf.rc[:, sel].mean(axis=0)
-        ok = np.isfinite(y) & (np.abs(y) <= bound)
-        out.append(np.asarray(sf.ens.res_name, dtype=object)[sf.targets.res_index[sel][ok]].astype(str))
-    return np.concatenate(out) if out else np.zeros(0, dtype=str)
-
-
 def ridge_solve(X: np.ndarray, y: np.ndarray, w: np.ndarray, lam: float, free: np.ndarray) -> np.ndarray:
     """Weighted ridge least squares on standardised columns; ``free`` columns are not penalised."""
     sw = np.sqrt(w)[:, None]
@@ -254,37 +241,6 @@ def loo_rows(names, X, y, d, w, group_of: np.ndarray, lam: float, iterations: in
     return pred
 
 
-def _residue_error_factors(datasets, settings, heldout, centred_residuals, choose_shrinkage,
-                           factors, loo: str, description: str) -> dict | None:
-    """The ``expected_error.by_residue`` block: per nucleus class the residue-type factors of the
-    expected error, their shrinkage chosen by held-out likelihood (see
-    :func:`shiftcheck.predict.crossval.residue_factors`); None when the settings ask for none or
-    there are fewer than three proteins."""
-    ee = settings["expected_error"]
-    grid = ee.get("residue_shrinkage_grid")
-    if not grid or len({d.group for d in datasets}) < 3:
-        return None
-    tail = float(ee["tail"])
-    values, shrink, nll = {}, {}, {}
-    for nuc, (y, pred, group_of) in heldout.items():
-        r, ok = centred_residuals(y, pred, group_of)
-        types = row_residue_types(datasets, nuc, settings.get("target_screen"))[ok]
-        r, g = r[ok], group_of[ok]
-        n0, cv = choose_shrinkage(r, types, g, grid, tail)
-        shrink[nuc] = n0 if np.isfinite(n0) else "inf"
-        nll[nuc] = {"by_residue": round(cv[n0], 4), "one_sigma": round(cv[float("inf")], 4)}
-        if np.isfinite(n0):
-            values[nuc] = {t: round(v, 4) for t, v in sorted(factors(r, types, n0, tail).items())}
-    return {"source": f"residue-type factors of the expected error (σ of an atom = values[class] × "
-                      f"by_residue.values[class][residue name], 1 for a type not listed), from the same "
-                      f"{loo} residuals on {description or 'its input'}: each type's RMS over the class's, "
-                      f"shrunk towards 1 with weight k / (k + n0) for k residuals, rescaled so that the class "
-                      f"stays tail-matched; n0 per class chosen from the grid (inf: one σ for the class) by "
-                      f"the lowest leave-one-protein-out Gaussian negative log-likelihood per residual "
-                      f"(heldout_nll; {ee.get('residue_shrinkage_source', '')})",
-            "values": values, "shrinkage": shrink, "heldout_nll": nll}
-
-
 def lambda_grid(settings: dict, nucleus: str) -> list[float]:
     """Candidate ridge strengths of one class: ``ridge_lambda.grid`` (or the fixed value)."""
     rl = settings["ridge_lambda"]
@@ -294,8 +250,8 @@ def lambda_grid(settings: dict, nucleus: str) -> list[float]:
 def calibrate(datasets: list[Dataset], settings: dict | None = None, description: str = "",
               ring_models=RING_MODELS) -> dict:
     """Fit all coefficients and return a parameter dict (see :mod:`shiftcheck.predict.params`)."""
-    from .crossval import GroupedRows, centred_residuals, choose_lambda, choose_residue_shrinkage, pooled_error, \
-        residue_factors
+    from .crossval import GroupedRows, choose_lambda, pooled_error
+    from .expected_error import residue_error_block, residue_rule_block
 
     settings = settings or load_settings()
     it = int(settings["referencing_iterations"]["value"])
@@ -325,14 +281,14 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
             err = pooled_error(y, pred, w, group_of)
             errors[rm][nuc] = err
             scales[rm][nuc] = tail_scale(y, pred, group_of, float(settings["expected_error"]["tail"]))
-            heldout[rm][nuc] = (y, pred, group_of)
+            heldout[rm][nuc] = (y, pred, group_of, d)
             if nuc in PROTON_CLASSES and np.isfinite(err):
                 proton_sse[rm][0] += err ** 2 * w.sum()
                 proton_sse[rm][1] += w.sum()
     best = min(ring_models, key=lambda m: proton_sse[m][0] / max(proton_sse[m][1], 1e-12))
     loo = "leave-one-protein-out" if len(groups_all) > 1 else "in-sample (only one shift list)"
-    by_res = _residue_error_factors(datasets, settings, heldout[best], centred_residuals,
-                                    choose_residue_shrinkage, residue_factors, loo, description)
+    by_res = residue_error_block(datasets, settings, heldout[best], loo, description)
+    res_rule = residue_rule_block(datasets, settings, heldout[best], scales[best], by_res, loo, description)
     table = load_table()
     rl = {k: v for k, v in settings["ridge_lambda"].items() if k != "source"}
     rl.update({"by_nucleus": lams[best], "by_ring_model": lams,
@@ -358,7 +314,8 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
                            "values": {k: round(v, 4) for k, v in scales[best].items() if np.isfinite(v)},
                            "by_ring_model": {m: {k: round(v, 4) for k, v in e.items() if np.isfinite(v)}
                                              for m, e in scales.items()},
-                           **({"by_residue": by_res} if by_res else {})},
+                           **({"by_residue": by_res} if by_res else {}),
+                           **({"residue_rule": res_rule} if res_rule else {})},
         "loo_rmsd": {"source": f"{loo} RMSD (ppm, referencing offset removed) computed by "
                                f"`shiftcheck calibrate` on {description or 'its input'}",
                      "values": {k: round(v, 4) for k, v in errors[best].items() if np.isfinite(v)},

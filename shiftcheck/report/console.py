@@ -70,6 +70,16 @@ def console_summary(res: ScoreResult, outdir: str | None = None, top: int = 10) 
         lines.append(f"  {comp.seq_id[j]:>5} {comp.comp_id[j]} {comp.atom_id[j]:<5} "
                      f"measured {meas:8.3f} predicted {comp.predicted[best, j]:8.3f} "
                      f"z {zb[j]:+6.1f}  ({res.outliers.klass[j]})")
+    whole = [r for r in res.residue_summary if r.get("residue_flag")]
+    if res.residue_rule is not None:
+        lines.append(f"Residues disagreeing as a whole (sum over their atoms above the residue limit): "
+                     f"{sum(r['residue_flag'] == 'every' for r in whole)} in every model, "
+                     f"{sum(r['residue_flag'] == 'some' for r in whole)} in some models")
+        for r in sorted(whole, key=lambda r: (r["residue_flag"] != "every", r["seq_id"]))[:top]:
+            if r["residue_q_best"] is None:
+                continue
+            lines.append(f"  {r['seq_id']:>5} {r['comp_id']} {r['n_atoms']} atoms, sum {r['residue_q_best']:.1f} "
+                         f"(limit {r['residue_limit_best']:.1f}) in the best model  ({r['residue_flag']})")
     warn = [f for f in res.findings if f.severity == "warning"]
     lines.append("")
     lines.append(f"Data checks: {len(warn)} warnings, {len(res.findings) - len(warn)} notes")

@@ -20,7 +20,7 @@ from ._constants import scoring_constants
 from .comparison import Comparison, build_comparison, resolve_stereo
 from .datacheck import Finding, check_against_models, check_shifts
 from .metrics import combined_score, huber_q, per_nucleus_metrics
-from .outliers import Outliers, residue_summary
+from .outliers import Outliers, residue_classes, residue_limit, residue_summary
 from .ranking import Ranking, per_residue_sums, rank_models
 from .referencing import Offset, estimate_offsets, residue_weights
 
@@ -31,7 +31,7 @@ if TYPE_CHECKING:
     from ..structure.mapping import Mapping
 
 __all__ = ["ScoreResult", "score", "score_comparison", "secondary_structure", "expected_errors",
-           "residue_error_factors", "atom_sigma",
+           "residue_error_factors", "atom_sigma", "residue_rule",
            "ENTRY_BLOCK"]
 
 #: Entries scored together (fixed, so results do not depend on batching or --jobs).
@@ -67,6 +67,8 @@ class ScoreResult(ScoreTables):
     n_stereo_swaps: int = 0
     warnings: list[str] = field(default_factory=list)
     expected_error_by_residue: dict[str, dict[str, float]] = field(default_factory=dict)
+    residue_flags: np.ndarray | None = None     # bool (n_entries, n_res): residue rule, or None
+    residue_rule: dict | None = None            # {'scale', 'tail', 'huber_h', 'source'} or None
     skipped: list = field(default_factory=list)   # isolation.Skipped: model files left out
 
     @property
@@ -147,6 +149,21 @@ def atom_sigma(nucleus: np.ndarray, comp_id: np.ndarray, sigma_map: dict[str, fl
     (1 for a type without one, e.g. a non-standard residue)."""
     return np.array([sigma_map[c] * factors.get(c, {}).get(str(t).upper(), 1.0)
                      for c, t in zip(nucleus, comp_id)], dtype=float)
+
+
+def residue_rule(params: dict | None) -> dict | None:
+    """The residue rule of the parameter file (``expected_error.residue_rule``: scale c, tail,
+    huber_h, source; see :mod:`shiftcheck.score.outliers`), or None (rule not applied)."""
+    ee = (params or {}).get("expected_error") if isinstance(params, dict) else None
+    rr = ee.get("residue_rule") if isinstance(ee, dict) else None
+    if not isinstance(rr, dict):
+        return None
+    try:
+        out = {"scale": float(rr["scale"]), "tail": float(rr["tail"]), "huber_h": float(rr["huber_h"]),
+               "source": str(rr.get("source", ""))}
+    except (KeyError, TypeError, ValueError):
+        return None
+    return out if out["scale"] > 0 and 0 < out["tail"] < 1 else None
 
 
 def score(shifts: ShiftList, ensembles: list[Ensemble], mappings: list[Mapping],
@@ -267,7 +284,17 @@ def score_comparison(shifts: ShiftList, comp: Comparison, ensembles, mappings, *
     ranking = rank_models(S, counts, W, p_group=float(const["p_group"]["value"]))
     best = int(ranking.order[0])
     z_best = ((meas_ref - comp.predicted[best]) / sigma)[None, :]
-    rsum = residue_summary(comp, z_best, out, 0)
+    rule = residue_rule(pdict)
+    res_flags = None
+    if rule is not None:
+        limit = residue_limit(counts, rule["scale"], rule["tail"])
+        with np.errstate(invalid="ignore"):
+            res_flags = (counts > 0) & (S > limit)
+        rkl = residue_classes(res_flags, counts, is_mean)
+        rsum = residue_summary(comp, z_best, out, 0, {"q_best": np.where(counts[best] > 0, S[best], np.nan),
+                                                      "limit_best": limit[best], "klass": rkl})
+    else:
+        rsum = residue_summary(comp, z_best, out, 0)
     warnings = list(shifts.warnings) + list(model_warnings)
     for name, a in comp.absent.items():
         why = ", ".join(f"{k} {v}" for k, v in sorted(a["reasons"].items()))
@@ -278,6 +305,8 @@ def score_comparison(shifts: ShiftList, comp: Comparison, ensembles, mappings, *
                 and reref == "auto":
             warnings.append(f"{iso} offset {off.value:+.2f} ppm is significant but below the "
                             f"{off.threshold} ppm threshold: not corrected")
+    if rule is not None and rule["huber_h"] != h:
+        warnings.append(f"the residue rule was calibrated with huber_h {rule['huber_h']:g}, the scorer uses {h:g}")
     parameters = {"params_source": params_source, "ring_model": ring_model, "k_sigma": k_sigma,
                   "n_boot": n_boot, "seed": seed, "reref": reref, "include_mean": include_mean,
                   "huber_h": h, "p_group": float(const["p_group"]["value"])}
@@ -285,7 +314,8 @@ def score_comparison(shifts: ShiftList, comp: Comparison, ensembles, mappings, *
                        offsets=offsets, sigma=sigma, score=combined, metrics=metrics,
                        ranking=ranking, outliers=out, residue_summary=rsum, findings=findings,
                        secondary=secondary, expected_error=sigma_map, expected_error_source=sigma_src,
-                       expected_error_by_residue=res_factors,
+                       expected_error_by_residue=res_factors, residue_flags=res_flags,
+                       residue_rule=rule,
                        parameters=parameters, n_stereo_swaps=swaps, warnings=warnings)
 
 
