@@ -173,3 +173,26 @@ def test_flags_table_paginates(tmp_path):
     assert n >= 3
     last = pages.flags_figure(d, n - 1)
     assert f"page {n} of {n}" in last.texts[0].get_text()
+
+
+def test_flags_pages_list_residues_flagged_as_a_whole(data):
+    # residue rule entries of summary.json (docs/outputs.md, residue flag) get their own section,
+    # one line per flagged residue, every-model flags first; unflagged residues are not listed
+    import copy
+
+    d = copy.copy(data)
+    d.summary = dict(data.summary)
+    rs = [{"seq_id": i + 1, "comp_id": c, "n_atoms": 6, "residue_flag": "", "residue_q_best": 1.0,
+           "residue_limit_best": 27.0} for i, c in enumerate(["MET", "GLN", "ILE", "PHE", "VAL"])]
+    rs[3].update(residue_flag="some", residue_q_best=30.5)
+    rs[1].update(residue_flag="every", residue_q_best=41.25)
+    d.summary["residue_summary"] = rs
+    rows = pages.flag_rows(d)
+    i = rows.index(("section", ["Residues disagreeing as a whole (2)"]))
+    notes = [r[0] for k, r in rows[i + 1:i + 3]]
+    assert notes[0].startswith(f"{rs[1]['comp_id'].capitalize()} {rs[1]['seq_id']}:") and "41.2" in notes[0] \
+        and notes[0].endswith("in every model")
+    assert notes[1].startswith(f"{rs[3]['comp_id'].capitalize()} {rs[3]['seq_id']}:") and "in some models" in notes[1]
+    assert rows[i + 3][0] == "section"          # data checks follow; no other residue listed
+    # an older summary without the rule has no such section
+    assert not any(k == "section" and r[0].startswith("Residues disagreeing") for k, r in pages.flag_rows(data))

@@ -236,6 +236,20 @@ def flag_rows(data: ReportData) -> list[tuple[str, list[str]]]:
             rows.append(("row", [f"{comp.capitalize()} {seq}", atom, fmt(meas, ".2f"),
                                  p, fmt(max(zs), ".1f") if zs else "-", _CLASS_TEXT.get(klass, klass),
                                  _short_rule(str(fs[0].get("rule") or "")), f"{len(fs)}/{n_models}"]))
+    rsum = [r for r in (s.get("residue_summary") or []) if isinstance(r, dict)]
+    if any("residue_flag" in r for r in rsum):
+        whole = [r for r in rsum if r.get("residue_flag")]
+        rows.append(("section", [f"Residues disagreeing as a whole ({len(whole)})"]))
+        if not whole:
+            rows.append(("note", ["No residue's atoms together pass the residue limit (docs/outputs.md, "
+                                  "residue flag)."]))
+        for r in sorted(whole, key=lambda r: (r.get("residue_flag") != "every", str(r.get("seq_id")))):
+            q, lim = r.get("residue_q_best"), r.get("residue_limit_best")
+            best = (f"sum of losses {float(q):.1f} against the limit {float(lim):.1f} in the best model"
+                    if _isnum(q) and _isnum(lim) else "not compared in the best model")
+            rows.append(("note", [f"{str(r.get('comp_id', '')).capitalize()} {r.get('seq_id', '')}: "
+                                  f"{r.get('n_atoms', '?')} atoms, {best}; flagged "
+                                  f"{_CLASS_TEXT.get(str(r.get('residue_flag')), r.get('residue_flag'))}"]))
     checks = [c for c in (s.get("data_checks") or []) if isinstance(c, dict)]
     rows.append(("section", [f"Data checks without a structure ({len(checks)} findings)"]))
     if checks:
