@@ -15,7 +15,7 @@ from __future__ import annotations
 import numpy as np
 
 __all__ = ["GroupedRows", "choose_lambda", "centred_residuals", "pooled_error", "tail_scale",
-           "residue_factors", "choose_residue_shrinkage"]
+           "residue_factors", "choose_residue_shrinkage", "heldout_sigma"]
 
 
 class GroupedRows:
@@ -153,23 +153,32 @@ def residue_factors(r: np.ndarray, res_type: np.ndarray, n0: float, tail: float)
     return {t: v * k for t, v in f.items()}
 
 
+def heldout_sigma(r, res_type, group_of, n0: float, tail: float) -> np.ndarray:
+    """σ of every residual as predicted without its own group: the other groups' shrunk ratios
+    (:func:`_shrunk_ratios`) times their tail-matched scale (the ``tail`` quantile of |r / f| / 3)."""
+    r, res_type, group_of = np.asarray(r, float), np.asarray(res_type).astype(str), np.asarray(group_of)
+    sig = np.empty(r.size)
+    for g in np.unique(group_of):
+        tr, te = group_of != g, group_of == g
+        f = _shrunk_ratios(r[tr], res_type[tr], n0)
+        ftr = np.array([f[t] for t in res_type[tr]])
+        s = float(np.quantile(np.abs(r[tr] / ftr), tail) / 3.0)
+        sig[te] = s * np.array([f.get(t, 1.0) for t in res_type[te]])
+    return sig
+
+
 def choose_residue_shrinkage(r, res_type, group_of, grid, tail: float) -> tuple[float, dict[float, float]]:
     """The shrinkage n0 of ``grid`` (plus inf = one σ for the class) with the lowest held-out
     Gaussian negative log-likelihood per residual, Σ [log σ + z²/2] / N, each protein's σ taken
-    from the other proteins (factors of :func:`residue_factors` times their tail-matched scale).
+    from the other proteins (:func:`heldout_sigma`) and all of them scaled by one factor so that
+    |z| > 3 occurs at the normal rate over the held-out residuals (as the shipped factors are).
     Returns (n0, {n0: mean NLL}); ties go to the larger n0 (more shrinkage)."""
     r, res_type, group_of = np.asarray(r, float), np.asarray(res_type).astype(str), np.asarray(group_of)
     out = {}
     for n0 in [float(v) for v in grid] + [float("inf")]:
-        nll = 0.0
-        for g in np.unique(group_of):
-            tr, te = group_of != g, group_of == g
-            f = _shrunk_ratios(r[tr], res_type[tr], n0)
-            ftr = np.array([f[t] for t in res_type[tr]])
-            s = float(np.quantile(np.abs(r[tr] / ftr), tail) / 3.0)
-            sig = s * np.array([f.get(t, 1.0) for t in res_type[te]])
-            nll += float(np.sum(np.log(sig) + 0.5 * (r[te] / sig) ** 2))
-        out[n0] = nll / r.size
+        sig = heldout_sigma(r, res_type, group_of, n0, tail)
+        sig = sig * float(np.quantile(np.abs(r / sig), tail) / 3.0)     # tail-matched as shipped
+        out[n0] = float(np.mean(np.log(sig) + 0.5 * (r / sig) ** 2))
     best = min(out, key=lambda k: (round(out[k], 9), -k))
     return best, out
 

@@ -13,7 +13,7 @@ import numpy as np
 from ..score._constants import scoring_constants
 from ..score.metrics import huber_q
 from ..score.outliers import residue_limit, residue_rule_scale
-from .crossval import centred_residuals, choose_residue_shrinkage, residue_factors
+from .crossval import centred_residuals, choose_residue_shrinkage, heldout_sigma, residue_factors
 
 __all__ = ["row_residues", "row_residue_types", "residue_error_block", "residue_rule_block"]
 
@@ -50,7 +50,7 @@ def residue_error_block(datasets, settings, heldout, loo: str, description: str)
     if not grid or len({d.group for d in datasets}) < 3:
         return None
     tail = float(ee["tail"])
-    values, shrink, nll = {}, {}, {}
+    values, shrink, nll, cv_scale = {}, {}, {}, {}
     for nuc, (y, pred, group_of, _) in heldout.items():
         r, ok = centred_residuals(y, pred, group_of)
         types = row_residue_types(datasets, nuc, settings.get("target_screen"))[ok]
@@ -59,15 +59,22 @@ def residue_error_block(datasets, settings, heldout, loo: str, description: str)
         shrink[nuc] = n0 if np.isfinite(n0) else "inf"
         nll[nuc] = {"by_residue": round(cv[n0], 4), "one_sigma": round(cv[float("inf")], 4)}
         if np.isfinite(n0):
-            values[nuc] = {t: round(v, 4) for t, v in sorted(residue_factors(r, types, n0, tail).items())}
+            # the in-sample tail match is optimistic once each type has its own factor: scale the
+            # factors so that |z| > 3 is at the normal rate for σ predicted without each protein
+            ho = heldout_sigma(r, types, g, n0, tail)
+            m = float(np.quantile(np.abs(r / ho), tail) / 3.0)
+            cv_scale[nuc] = round(m, 4)
+            values[nuc] = {t: round(v * m, 4) for t, v in sorted(residue_factors(r, types, n0, tail).items())}
     return {"source": f"residue-type factors of the expected error (σ of an atom = values[class] × "
                       f"by_residue.values[class][residue name], 1 for a type not listed), from the same "
                       f"{loo} residuals on {description or 'its input'}: each type's RMS over the class's, "
                       f"shrunk towards 1 with weight k / (k + n0) for k residuals, rescaled so that the class "
                       f"stays tail-matched; n0 per class chosen from the grid (inf: one σ for the class) by "
                       f"the lowest leave-one-protein-out Gaussian negative log-likelihood per residual "
-                      f"(heldout_nll; {ee.get('residue_shrinkage_source', '')})",
-            "values": values, "shrinkage": shrink, "heldout_nll": nll}
+                      f"(heldout_nll; {ee.get('residue_shrinkage_source', '')}); then multiplied by heldout_tail_scale, "
+                      f"the {tail:g} quantile of |r| / σ over 3 with each protein's σ fitted without it, so that "
+                      f"the rule's |z| > 3 rate holds on proteins the factors have not seen",
+            "values": values, "shrinkage": shrink, "heldout_nll": nll, "heldout_tail_scale": cv_scale}
 
 
 def residue_rule_block(datasets, settings, heldout, scales, by_res, loo: str, description: str) -> dict | None:
