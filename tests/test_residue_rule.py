@@ -25,6 +25,14 @@ def test_limit_is_the_chi_square_quantile():
     assert lim[0] == pytest.approx(-3 * math.log(1 - TAIL)) and np.isnan(lim[1])
 
 
+def test_limit_agrees_with_scipy_chi_square_quantile():
+    # reference library: scipy.stats.chi2.ppf, for every atom count a residue can have
+    from scipy.stats import chi2
+
+    k = np.arange(1, 40)
+    np.testing.assert_allclose(residue_limit(k, 1.0, TAIL), chi2.ppf(TAIL, k), rtol=1e-10)
+
+
 def test_scale_is_one_for_normal_residuals_with_squared_loss():
     # Σ z² of k normal z follows chi-square(k), so the fraction above χ²_k(0.9973) is already
     # 0.27 % and the fitted scale is 1 (to sampling error: 300000 residues, 810 above)
