@@ -95,6 +95,13 @@ def test_embedded_json_equals_csv(demo_dir):
             col = f"{stat}_{x}"
             assert all(_same(a, _num(r[col])) for a, r in zip(rk["metrics"][stat][x], ranking)), col
     assert sum(rk["best_group"]) >= 1
+    # residues flagged as a whole: one line each, in the same order as the PDF's flags pages
+    whole = [r for r in json.loads((demo_dir / "summary.json").read_text())["residue_summary"]
+             if r.get("residue_flag")]
+    assert [x.split(":")[0] for x in data["flags"]["residues"]] == \
+        [f"{r['comp_id'].capitalize()} {r['seq_id']}" for r in sorted(
+            whole, key=lambda r: (r["residue_flag"] != "every", str(r["seq_id"])))]
+    assert not any(x in data["flags"]["notes"] for x in data["flags"]["residues"])
     residues = _csv(demo_dir / "residues.csv")
     assert sorted(data["points_models"]) == sorted({r["model"] for r in residues})  # 5 models: all
     points = _decoded_points(data)
@@ -219,6 +226,10 @@ def test_page_in_chromium(demo_dir, tmp_path):
             s.value = 'in every model'; s.dispatchEvent(new Event('change'));
             return document.querySelectorAll('#flag-table tbody tr').length; })()""")
         assert 0 < n_every < n_all
+        # residues flagged as a whole (summary.json residue_summary): one list item each
+        summary = json.loads((demo_dir / "summary.json").read_text())
+        whole = [r for r in summary["residue_summary"] if r.get("residue_flag")]
+        assert b.eval("document.querySelectorAll('#residue-flags li').length") == len(whole)
         b.eval("(s => { s.value = ''; s.dispatchEvent(new Event('change')); })(document.getElementById('flag-class'))")
         b.eval(f"(s => {{ s.value = {json.dumps(models[0])}; s.dispatchEvent(new Event('change')); }})"
                "(document.getElementById('model-pick'))")

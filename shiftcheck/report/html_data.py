@@ -147,11 +147,17 @@ def _ss_entry(data: ReportData, model: str) -> dict | None:
 
 
 def _flags(data: ReportData) -> dict:
-    """Flagged atoms (one row per atom) and data-check findings, cells as in the PDF's flags pages."""
+    """Flagged atoms (one row per atom), residues flagged as a whole (lines) and data-check
+    findings, cells as in the PDF's flags pages."""
     rows = flag_rows(data)
-    header_flags, header_checks, flags, checks, notes = None, None, [], [], []
+    header_flags, header_checks, flags, checks, notes, residues = None, None, [], [], [], []
+    section = ""
     for kind, cells in rows:
-        if kind == "header":
+        if kind == "section":
+            section = cells[0]
+        elif kind == "note" and section.startswith("Residues disagreeing as a whole"):
+            residues.append(cells[0])
+        elif kind == "header":
             if "measured*" in cells:
                 header_flags = cells
             else:
@@ -163,7 +169,7 @@ def _flags(data: ReportData) -> dict:
         elif kind == "note":
             notes.append(cells[0])
     return {"flag_columns": header_flags or [], "flags": flags, "check_columns": header_checks or [],
-            "checks": checks, "notes": notes}
+            "checks": checks, "notes": notes, "residues": residues}
 
 
 def _meta(data: ReportData) -> dict:

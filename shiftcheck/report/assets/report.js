@@ -375,6 +375,10 @@
   $("flag-filter").addEventListener("input", drawFlags);
   $("flag-class").addEventListener("change", drawFlags);
   $("flag-notes").textContent = F.notes.join(" ");
+  $("residue-flags").innerHTML = (F.residues || []).length
+    ? `<p>Residues disagreeing as a whole (${F.residues.length}):</p><ul>` +
+      F.residues.map((r) => `<li>${esc(r)}</li>`).join("") + "</ul>"
+    : "";
 
   /* ---------------------------------------------------------------- inputs and notes */
   function drawInputs() {
