@@ -47,8 +47,10 @@ def unmet(ds, results, full, GOALS, BACKBONE):
     lines += ["", "Not done in this round: per-state expected errors in the scorer (the state would come from the "
               "model being scored, see the tail table; the scorer uses per-residue-type factors instead, which "
               "depend on the sequence only); "
-              "inter-chain through-space terms for the homodimers; a residue-level outlier rule (several atoms "
-              "of one residue each just below 3σ)."]
+              "inter-chain through-space terms for the homodimers; a correction for deuterium isotope shifts "
+              "(2loy is perdeuterated, engrailed_hd 70 % 2H; only the per-protein offset absorbs their mean). "
+              "Done in this round beside the predictor: a residue-level outlier rule (see the tail table and "
+              "docs/outputs.md, residue flag)."]
     return lines
 
 
