@@ -100,7 +100,7 @@ def test_embedded_json_equals_csv(demo_dir):
              if r.get("residue_flag")]
     assert [x.split(":")[0] for x in data["flags"]["residues"]] == \
         [f"{r['comp_id'].capitalize()} {r['seq_id']}" for r in sorted(
-            whole, key=lambda r: (r["residue_flag"] != "every", str(r["seq_id"])))]
+            whole, key=lambda r: (r["residue_flag"] != "every", int(r["seq_id"])))]
     assert not any(x in data["flags"]["notes"] for x in data["flags"]["residues"])
     residues = _csv(demo_dir / "residues.csv")
     assert sorted(data["points_models"]) == sorted({r["model"] for r in residues})  # 5 models: all

@@ -18,7 +18,10 @@ Procedure
 4. Leave one shift list out: fit on the others, predict it, subtract its median residual, and
    pool the errors: their RMSD is ``loo_rmsd``; the ``expected_error`` stored in the file is the
    tail-matched scale of the same residuals (:func:`tail_scale`), so that the 3σ flag fires on
-   held-out proteins as often as it would for normal errors. The default ring
+   held-out proteins as often as it would for normal errors. From the same residuals
+   :mod:`shiftcheck.predict.expected_error` fits the residue-type factors of the expected error
+   (``expected_error.by_residue``) and the scale of the residue rule
+   (``expected_error.residue_rule``). The default ring
    model is the one with the lowest pooled leave-one-out error over the proton classes.
 """
 from __future__ import annotations

@@ -243,7 +243,12 @@ def flag_rows(data: ReportData) -> list[tuple[str, list[str]]]:
         if not whole:
             rows.append(("note", ["No residue's atoms together pass the residue limit (docs/outputs.md, "
                                   "residue flag)."]))
-        for r in sorted(whole, key=lambda r: (r.get("residue_flag") != "every", str(r.get("seq_id")))):
+        def order(r):
+            try:
+                return (r.get("residue_flag") != "every", 0, int(r.get("seq_id")))
+            except (TypeError, ValueError):
+                return (r.get("residue_flag") != "every", 1, 0)
+        for r in sorted(whole, key=order):
             q, lim = r.get("residue_q_best"), r.get("residue_limit_best")
             best = (f"sum of losses {float(q):.1f} against the limit {float(lim):.1f} in the best model"
                     if _isnum(q) and _isnum(lim) else "not compared in the best model")
