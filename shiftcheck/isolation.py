@@ -83,7 +83,7 @@ def _fail(exc: ShiftcheckError, path: str, strict: bool) -> Skipped:
 
 
 def read_models_tolerant(paths, chain: str | None = None, build_hydrogens: bool = True,
-                         strict: bool = False):
+                         strict: bool = False, partners: str = "auto"):
     """Read each coordinate file on its own; returns ``(ensembles, skipped)``.
 
     Parameters
@@ -94,6 +94,8 @@ def read_models_tolerant(paths, chain: str | None = None, build_hydrogens: bool 
     build_hydrogens : bool
     strict : bool
         Raise the first file's error instead of skipping it.
+    partners : str
+        The other protein chains as surroundings (see :func:`shiftcheck.io.coords.read_models`).
 
     Returns
     -------
@@ -107,7 +109,7 @@ def read_models_tolerant(paths, chain: str | None = None, build_hydrogens: bool 
     ensembles, skipped = [], []
     for p, lab in zip(paths, labels):
         try:
-            ens = read_models(p, chain=chain, build_hydrogens=False)[0]
+            ens = read_models(p, chain=chain, build_hydrogens=False, partners=partners)[0]
         except ShiftcheckError as exc:
             skipped.append(_fail(exc, p, strict))
             continue
@@ -134,7 +136,7 @@ def _chain_hint(shifts, ens, min_identity: float) -> str:
             chains = [c.split(" (")[0].strip() for c in m.group(1).split(", ")]
     for c in chains:
         try:
-            other = read_models(ens.sources[0], chain=c, build_hydrogens=False)[0]
+            other = read_models(ens.sources[0], chain=c, build_hydrogens=False, partners="ignore")[0]
             map_sequence(shifts, other, min_identity=min_identity)
         except ShiftcheckError:
             continue

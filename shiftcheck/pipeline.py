@@ -142,6 +142,7 @@ def score_models(shifts: ShiftList, ensembles: list[Ensemble], *, mappings: list
 
 
 def score_files(shift_path, model_paths, *, list_id=None, entity_id=None, chain: str | None = None,
+                partners: str = "auto",
                 temperature: float | None = None, ph: float | None = None, strict: bool = False,
                 on_models: Callable | None = None, jobs: int | None = 1, scheduler: str | None = None,
                 models_per_task: int | None = None, **options) -> ScoreResult:
@@ -157,13 +158,15 @@ def score_files(shift_path, model_paths, *, list_id=None, entity_id=None, chain:
     raises the usual one-line error; no model left raises with every reason. ``on_models(infos,
     skipped)`` is called once every model is read, before the scoring (the CLI checks ``--show``
     names and prints the skips there). ``temperature`` (K) and ``ph`` replace the sample
-    conditions read from the shift file (NEF files carry none).
+    conditions read from the shift file (NEF files carry none). ``partners`` says whether the
+    files' other protein chains surround the scored one (:func:`shiftcheck.io.coords.read_models`).
     """
     from .stream import DEFAULT_MODELS_PER_TASK, score_stream
 
     options.pop("batch_size", None)
     options.pop("mapper", None)
     return score_stream(shift_path, model_paths, list_id=list_id, entity_id=entity_id, chain=chain,
+                        partners=partners,
                         temperature=temperature, ph=ph, strict=strict, on_models=on_models, jobs=jobs,
                         scheduler=scheduler, models_per_task=models_per_task or DEFAULT_MODELS_PER_TASK,
                         **options)

@@ -257,7 +257,7 @@ def collect(results: Iterable, n_files: int, strict: bool = False,
     return infos, maps, proj, secondary, states, ens_warn, pred_warn, skipped_read + skipped_map, geometry
 
 
-def score_stream(shift_path, model_paths, *, list_id=None, entity_id=None, chain=None, temperature=None,
+def score_stream(shift_path, model_paths, *, list_id=None, entity_id=None, chain=None, partners="auto", temperature=None,
                  ph=None, strict: bool = False, on_models: Callable | None = None, params=None,
                  ring_model=None, min_identity=None, reref="auto", k_sigma=None, n_boot=None, seed=None,
                  include_mean=True, models_per_task: int = DEFAULT_MODELS_PER_TASK, jobs: int = 1,
@@ -282,7 +282,7 @@ def score_stream(shift_path, model_paths, *, list_id=None, entity_id=None, chain
     findings = check_shifts(shifts)
     ctx = Context(shifts, predictor.params_, predictor.ring_model_,
                   DEFAULT_MIN_IDENTITY if min_identity is None else min_identity, chain,
-                  comparison_keys(shifts, (None, None)), findings)
+                  comparison_keys(shifts, (None, None)), findings, partners)
     tasks = plan_tasks(model_paths, models_per_task)
     groups = group_tasks(tasks, models_per_task)
     n_files = len({t.file for t in tasks})

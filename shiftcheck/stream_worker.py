@@ -69,6 +69,7 @@ class Context:
     chain: str | None
     rows: object                      # comparison.Keys: superset comparison rows
     findings: list                    # structure-free data checks (for the model states)
+    partners: str = "auto"            # other chains as surroundings (io.coords.read_models)
     _predictor: object = field(default=None, repr=False, compare=False)
 
     def predictor(self):
@@ -98,14 +99,14 @@ class TaskResult:
     geometry: list = field(default_factory=list)      # structure.quality records, one per model
 
 
-def _read(task: Task, chain, hydrogens: bool = True):
+def _read(task: Task, chain, hydrogens: bool = True, partners: str = "auto"):
     """The task's models as one Ensemble (hydrogens built unless ``hydrogens`` is false), named
     as a whole-file read names them."""
     from .io.coords import read_models
     from .isolation import _relabel
 
     if task.body is None:
-        return _relabel(read_models(task.path, chain=chain, build_hydrogens=hydrogens)[0], task.label)
+        return _relabel(read_models(task.path, chain=chain, build_hydrogens=hydrogens, partners=partners)[0], task.label)
     with open(task.path, "rb") as fh:
         head = fh.read(task.head)
         fh.seek(task.body[0])
@@ -116,7 +117,7 @@ def _read(task: Task, chain, hydrogens: bool = True):
         with open(part, "wb") as out:
             out.write(head + body + b"END\n")
         try:
-            ens = read_models(part, chain=chain, build_hydrogens=hydrogens)[0]
+            ens = read_models(part, chain=chain, build_hydrogens=hydrogens, partners=partners)[0]
         except ShiftcheckError as exc:
             exc.path = task.path if exc.path in (None, part) else exc.path
             raise
@@ -148,7 +149,7 @@ def run_group(tasks, ctx: Context) -> list[TaskResult]:
     read = []
     for k, task in enumerate(tasks):
         try:
-            read.append((k, _read(task, ctx.chain, hydrogens=False)))
+            read.append((k, _read(task, ctx.chain, hydrogens=False, partners=ctx.partners)))
         except ShiftcheckError as exc:
             out[k] = TaskResult(task, _fail(exc, task.path, False), "read")
     todo = []

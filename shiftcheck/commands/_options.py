@@ -8,7 +8,7 @@ import math
 
 from ..errors import InputError
 
-__all__ = ["check_score_options", "check_show", "check_predict_options"]
+__all__ = ["check_score_options", "check_show", "check_predict_options", "add_partner_option"]
 
 
 def _finite(name: str, v: float | None) -> None:
@@ -53,3 +53,12 @@ def check_predict_options(args) -> None:
         raise InputError(f"--temperature is in kelvin and must be positive, got {args.temperature:g}")
     if args.ph is not None and not 0 <= args.ph <= 14:
         raise InputError(f"--ph must lie within 0..14, got {args.ph:g}")
+
+
+def add_partner_option(p) -> None:
+    """``--partner-chains``: the files' other protein chains as surroundings of the scored chain."""
+    p.add_argument("--partner-chains", choices=("auto", "use", "ignore"), default="auto",
+                   help="other protein chains of a model file (a homodimer's partner, a complex's "
+                        "subunits) as surroundings of the chosen chain for ring currents, hydrogen "
+                        "bonds, burial and electric field; auto (default): used unless the file is a "
+                        "crystal structure, whose other chains may be copies in the asymmetric unit")

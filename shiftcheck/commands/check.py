@@ -43,7 +43,8 @@ def run(args) -> int:
     if args.models:     # models are advisory here: an unusable one is named and left out
         from ..isolation import map_models_tolerant, no_model_left, read_models_tolerant
 
-        ens, skipped = read_models_tolerant(args.models, chain=args.chain, build_hydrogens=False)
+        ens, skipped = read_models_tolerant(args.models, chain=args.chain, build_hydrogens=False,
+                                           partners="ignore")
         ens, maps, more = map_models_tolerant(shifts, ens)
         skipped += more
         if not ens:

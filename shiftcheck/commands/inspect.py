@@ -10,6 +10,8 @@ import argparse
 from collections import Counter
 from typing import TYPE_CHECKING
 
+from ._options import add_partner_option
+
 if TYPE_CHECKING:
     from collections.abc import Sequence
     from ..shiftlist import ShiftList
@@ -29,6 +31,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("models", metavar="MODELS", nargs="*", help="coordinate files (PDB or mmCIF)")
     p.add_argument("--chain", metavar="C", help="author chain ID in the models "
                    "(default: the first chain with protein residues)")
+    add_partner_option(p)
     p.add_argument("--list-id", metavar="ID", help="assigned shift list ID or saveframe name "
                    "(default: the only list, or the largest protein list)")
     p.add_argument("--entity", metavar="ID", help="entity or entity-assembly ID of the shifts "
@@ -77,6 +80,10 @@ def _model_block(ens) -> list[str]:
                f"{ens.res_seq[0]}{ens.res_icode[0]}-{ens.res_seq[-1]}{ens.res_icode[-1]}, {ens.n_atoms} atoms")
     out.append(f"  hydrogens: {n_h} ({n_h - n_built} read, {n_built} built)")
     out.append(f"  method: {ens.method or 'not stated'}")
+    if ens.partners:
+        out.append("  surroundings: " + ", ".join(f"chain {p.chain_id} ({p.n_residues} residues)"
+                                                  for p in ens.partners)
+                   + " (through-space terms only; not scored)")
     seq = ens.one_letter
     out.append(f"  sequence: {seq[:70]}{'...' if len(seq) > 70 else ''}")
     return out
@@ -119,8 +126,8 @@ def run(args) -> int:
 
     shifts = read_shifts(args.shifts, list_id=args.list_id, entity_id=args.entity)
     # every file is described even when some cannot be read (the unreadable ones are listed)
-    ensembles, unreadable = ([], []) if not args.models else read_models_tolerant(args.models,
-                                                                                   chain=args.chain)
+    ensembles, unreadable = ([], []) if not args.models else read_models_tolerant(
+        args.models, chain=args.chain, partners=args.partner_chains)
     text, failed = describe(shifts, ensembles, min_identity=args.min_identity, alignment=args.alignment)
     if unreadable:
         text += f"\nUnreadable model files ({len(unreadable)}):\n" + "\n".join(

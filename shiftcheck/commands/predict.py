@@ -8,6 +8,7 @@ import sys
 from typing import TYPE_CHECKING
 
 from ..defaults import RING_MODELS
+from ._options import add_partner_option
 
 if TYPE_CHECKING:
     from ..predict.prediction import Prediction
@@ -24,6 +25,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("models", nargs="+", metavar="MODEL", help="PDB or mmCIF files (optionally .gz)")
     p.add_argument("-o", "--output", metavar="FILE.csv", help="write a CSV table (default: print a table)")
     p.add_argument("--chain", metavar="C", help="chain ID (default: the first protein chain)")
+    add_partner_option(p)
     p.add_argument("--params", metavar="FILE", help="parameter file (default: the shipped one)")
     p.add_argument("--ring-model", choices=RING_MODELS, help="ring-current model (default: the parameter file's)")
     p.add_argument("--temperature", type=float, metavar="K", help="sample temperature in K (random-coil correction)")
@@ -68,7 +70,7 @@ def run(args) -> int:
     buf = io.StringIO()
     writer = csv.writer(buf, lineterminator="\n")
     first = True
-    for ens in read_models(args.models, chain=args.chain):
+    for ens in read_models(args.models, chain=args.chain, partners=args.partner_chains):
         pred = predictor.predict(ens, cond)
         header, rows = prediction_rows(pred, ens.res_icode[pred.res_index])
         if first:

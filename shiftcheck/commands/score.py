@@ -12,6 +12,7 @@ from typing import TYPE_CHECKING
 
 from ..defaults import DEFAULT_MIN_IDENTITY, RING_MODELS, scoring_default
 from ..errors import InputError
+from ._options import add_partner_option
 
 if TYPE_CHECKING:
     from ..score.scoring import ScoreResult
@@ -40,6 +41,7 @@ def add_parser(subparsers) -> argparse.ArgumentParser:
     p.add_argument("-o", "--outdir", metavar="OUTDIR", required=True,
                    help="output directory (created; must be empty unless --force)")
     p.add_argument("--chain", metavar="C", help="author chain ID in the models (default: first protein chain)")
+    add_partner_option(p)
     add_common_options(p)
     p.add_argument("--temperature", metavar="K", type=float, default=None,
                    help="sample temperature in kelvin, for the random-coil corrections (default: "
@@ -140,7 +142,7 @@ def run(args) -> int:
             print(f"shiftcheck: warning: {s.file}: skipped: {s.reason}", file=sys.stderr)
 
     res = score_files(args.shifts, args.models, list_id=args.list_id, entity_id=args.entity,
-                      chain=args.chain, temperature=args.temperature, ph=args.ph, strict=args.strict,
+                      chain=args.chain, partners=args.partner_chains, temperature=args.temperature, ph=args.ph, strict=args.strict,
                       on_models=on_models, params=args.params, ring_model=args.ring_model,
                       reref=args.reref, k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
                       include_mean=not args.no_mean, min_identity=args.min_identity,

@@ -29,14 +29,19 @@ from ._flat import flat_models
 from .pdb_repair import repair_pdb_columns
 from .textfile import read_text_file
 
-__all__ = ["read_models", "read_model_file"]
+__all__ = ["read_models", "read_model_file", "PARTNER_MODES"]
+
+#: Values of ``partners=`` (and of the CLI's ``--partner-chains``).
+PARTNER_MODES = ("auto", "use", "ignore")
+#: Experimental methods whose files hold an asymmetric unit (other chains may be crystal copies).
+_CRYSTAL_METHODS = ("X-RAY", "NEUTRON", "CRYSTALLOGRAPHY", "FIBER")
 
 _AA20 = frozenset(AA20)
 _WATERS = frozenset({"HOH", "WAT", "DOD", "H2O", "TIP", "TIP3", "SOL"})
 
 
 def read_models(paths: str | os.PathLike | Sequence[str | os.PathLike], chain: str | None = None,
-                build_hydrogens: bool = True) -> list[Ensemble]:
+                build_hydrogens: bool = True, partners: str = "auto") -> list[Ensemble]:
     """Read one or more coordinate files; one :class:`Ensemble` per file.
 
     Parameters
@@ -51,6 +56,11 @@ def read_models(paths: str | os.PathLike | Sequence[str | os.PathLike], chain: s
     build_hydrogens : bool
         Add the protons the predictor needs where the file has none
         (:func:`shiftcheck.structure.hydrogens.add_hydrogens`).
+    partners : {"auto", "use", "ignore"}
+        The file's other protein chains as surroundings of the chosen one
+        (:attr:`Ensemble.partners`: the partner of a homodimer, the subunits of a complex, seen by
+        the through-space terms). ``auto``: used unless the file is a crystal structure, whose
+        other chains may be copies in the asymmetric unit rather than partners in solution.
 
     Returns
     -------
@@ -69,7 +79,7 @@ def read_models(paths: str | os.PathLike | Sequence[str | os.PathLike], chain: s
     """
     if isinstance(paths, (str, os.PathLike)):
         paths = [paths]
-    out = [read_model_file(p, chain=chain) for p in paths]
+    out = [read_model_file(p, chain=chain, partners=partners) for p in paths]
     if build_hydrogens:               # files of one topology built as one stack (same result)
         from ..structure.hydrogens import add_hydrogens_many
 
@@ -77,8 +87,10 @@ def read_models(paths: str | os.PathLike | Sequence[str | os.PathLike], chain: s
     return out
 
 
-def read_model_file(path: str | os.PathLike, chain: str | None = None) -> Ensemble:
+def read_model_file(path: str | os.PathLike, chain: str | None = None, partners: str = "auto") -> Ensemble:
     """Read one file into an :class:`Ensemble` (no hydrogens added). See :func:`read_models`."""
+    if partners not in PARTNER_MODES:
+        raise ValueError(f"partners must be one of {', '.join(PARTNER_MODES)}, not {partners!r}")
     path = str(path)
     text = _read_text(path)
     repairs: list[str] = []
@@ -89,6 +101,8 @@ def read_model_file(path: str | os.PathLike, chain: str | None = None) -> Ensemb
         ens = _to_ensemble(st, path, chain)
         ens.warnings[:0] = [f"repaired: {r}" for r in repairs] + (
             ["blank chain ID: read as chain '' (select it with --chain '')"] if ens.chain_id == "" else [])
+        if partners != "ignore":
+            _attach_partners(st, path, ens, partners)
         return ens
     except ShiftcheckError:
         raise
@@ -165,7 +179,40 @@ def _is_protein_name(name: str) -> bool:
         return False
 
 
-def _choose_chain(model, chain: str | None, path: str, warnings: list[str]) -> str:
+def _attach_partners(st, path: str, ens: Ensemble, mode: str) -> None:
+    """Read the file's other protein chains into ``ens.partners`` (see :func:`read_models`)."""
+    others = [c for c in _protein_chains(st[0])[0] if c != ens.chain_id]
+    if not others:
+        return
+    names = ", ".join(others)
+    if mode == "auto" and any(k in ens.method.upper() for k in _CRYSTAL_METHODS):
+        ens.warnings.append(f"chain(s) {names} not used as surroundings of chain {ens.chain_id}: in a "
+                            "crystal structure they may be copies of the asymmetric unit rather than "
+                            "partners (--partner-chains use to include them)")
+        return
+    got, left = [], []
+    for c in others:
+        try:
+            p = _to_ensemble(st, path, c)
+        except ShiftcheckError:
+            left.append(c)
+            continue
+        if p.n_models != ens.n_models:
+            left.append(c)
+            continue
+        p.warnings = []
+        got.append(p)
+    ens.partners = got
+    if got:
+        ens.warnings.append(f"chain(s) {', '.join(p.chain_id for p in got)} used as surroundings of chain "
+                            f"{ens.chain_id} (ring currents, hydrogen bonds, burial, electric field; "
+                            "--partner-chains ignore to leave them out)")
+    if left:
+        ens.warnings.append(f"chain(s) {', '.join(left)} not used as surroundings: not in every model")
+
+
+def _protein_chains(model) -> tuple[list[str], dict[str, int], list[str]]:
+    """(protein chains in file order, protein residues per chain, all chain names in order)."""
     counts: dict[str, int] = {}
     order: list[str] = []
     for ch in model:
@@ -174,7 +221,11 @@ def _choose_chain(model, chain: str | None, path: str, warnings: list[str]) -> s
             order.append(ch.name)
             counts[ch.name] = 0
         counts[ch.name] += n
-    protein = [c for c in order if counts[c] > 0]
+    return [c for c in order if counts[c] > 0], counts, order
+
+
+def _choose_chain(model, chain: str | None, path: str, warnings: list[str]) -> str:
+    protein, counts, order = _protein_chains(model)
     if chain is not None:
         if chain not in counts:
             raise InputError(f"no chain {chain!r} (chains: {', '.join(order) or 'none'})", path=path)

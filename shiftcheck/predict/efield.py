@@ -94,11 +94,13 @@ def charge_sites(ens: Ensemble) -> dict[str, np.ndarray]:
             hit = np.flatnonzero((names == atom) & (rn[atom_res] == res))
             idx.append(hit), qs.append(np.full(hit.size, float(qa)))
     term = par["terminal_charges"]
+    starts = [int(x) for x in getattr(ens, "chain_starts", (0,))]
+    ends = [x - 1 for x in starts[1:]] + [n_res - 1]
     for atom, qa in term.items():
-        res = 0 if atom == "N" else n_res - 1
-        k = ens.index(res, atom)
-        if k >= 0:
-            idx.append(np.array([k])), qs.append(np.array([float(qa)]))
+        for res in (starts if atom == "N" else ends):       # termini of every chain
+            k = ens.index(res, atom)
+            if k >= 0:
+                idx.append(np.array([k])), qs.append(np.array([float(qa)]))
     idx = np.concatenate(idx) if idx else np.zeros(0, np.int64)
     qs = np.concatenate(qs) if qs else np.zeros(0)
     # a terminal atom carries its terminal charge in place of its peptide charge: the first N is

@@ -4,7 +4,8 @@ Each builder is ``f(sf, nucleus, sel, settings) -> {name: (n_models, sel.size) a
 :class:`~shiftcheck.predict.features.StructureFeatures`, ``sel`` the indices of the targets of
 class ``nucleus``, ``settings`` a :class:`~shiftcheck.predict.terms.FeatureSettings`. They are thin
 adapters over the term modules, which compute the physics vectorised over models; expensive parts
-are cached on ``sf``. Columns are finite (geometric factors that cannot be computed are 0).
+are cached on ``sf``. Through-space terms (ring currents, hydrogen bonds, peptide anisotropy,
+burial, electric field) sum over :func:`surroundings`, which includes the partner chains. Columns are finite (geometric factors that cannot be computed are 0).
 """
 from __future__ import annotations
 
@@ -29,6 +30,15 @@ def _residue_key(comp: str, atom: str, nucleus: str) -> str:
     return comp
 
 
+def surroundings(sf):
+    """The ensemble the through-space terms sum over: the chain plus its partner chains
+    (:func:`shiftcheck.structure.ensemble.with_partners`; the chain alone when it has none).
+    Target atom indices are the same in both."""
+    from ..structure.ensemble import with_partners
+
+    return sf.cached("surroundings", lambda: with_partners(sf.ens))
+
+
 def _selected(sf, nucleus: str | None) -> np.ndarray:
     idx = sf.targets.atom_index
     return idx if nucleus is None else idx[sf.targets.nucleus == nucleus]
@@ -40,9 +50,10 @@ def ring_factors(sf, model: str, nucleus: str | None = None) -> dict[str, np.nda
     from .ringcurrent import ring_current_factors
     from .rings import find_rings
 
-    rings = sf.cached("rings", lambda: find_rings(sf.ens))
+    env = surroundings(sf)
+    rings = sf.cached("rings", lambda: find_rings(env))
     return sf.cached(("ring", model, nucleus),
-                     lambda: ring_current_factors(sf.ens, _selected(sf, nucleus), model, rings=rings))
+                     lambda: ring_current_factors(env, _selected(sf, nucleus), model, rings=rings))
 
 
 def offset(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
@@ -97,7 +108,7 @@ def hbond(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
         return {}
     from .hbond import hbond_features
 
-    hb = sf.cached("hbond", lambda: hbond_features(sf.ens, sf.targets.atom_index))
+    hb = sf.cached("hbond", lambda: hbond_features(surroundings(sf), sf.targets.atom_index))
     return {f"hb:{f}": np.nan_to_num(np.asarray(hb[f], float)[:, sel]) for f in HBOND_FEATURES[nucleus]}
 
 
@@ -105,7 +116,7 @@ def hbond_basis(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     """Fitted distance/angle basis of H···O contacts (:mod:`shiftcheck.predict.hbond_basis`)."""
     from .hbond_basis import basis_features
 
-    basis = sf.cached("hbond_basis", lambda: basis_features(sf.ens, sf.targets.atom_index))
+    basis = sf.cached("hbond_basis", lambda: basis_features(surroundings(sf), sf.targets.atom_index))
     return {f: g[:, sel] for f, g in basis.items()}
 
 
@@ -125,7 +136,7 @@ def anisotropy(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     """Peptide-group McConnell terms (:mod:`shiftcheck.predict.anisotropy`)."""
     from .anisotropy import anisotropy_features
 
-    got = sf.cached(("anisotropy", nucleus), lambda: anisotropy_features(sf.ens, _selected(sf, nucleus)))
+    got = sf.cached(("anisotropy", nucleus), lambda: anisotropy_features(surroundings(sf), _selected(sf, nucleus)))
     return {f"aniso:{f}": np.nan_to_num(g) for f, g in got.items()}
 
 
@@ -136,7 +147,7 @@ def burial(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     from .burial import burial_features
 
     got = sf.cached(("burial", nucleus, json.dumps(settings.burial, sort_keys=True)),
-                    lambda: burial_features(sf.ens, _selected(sf, nucleus), settings.burial))
+                    lambda: burial_features(surroundings(sf), _selected(sf, nucleus), settings.burial))
     return {f: np.nan_to_num(g) for f, g in got.items()}
 
 
@@ -144,5 +155,5 @@ def efield(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     """Buckingham electric-field terms of H/HA (:mod:`shiftcheck.predict.efield`)."""
     from .efield import efield_features
 
-    got = sf.cached(("efield", nucleus), lambda: efield_features(sf.ens, _selected(sf, nucleus)))
+    got = sf.cached(("efield", nucleus), lambda: efield_features(surroundings(sf), _selected(sf, nucleus)))
     return {f"ef:{f}": g for f, g in got.items()}

@@ -10,7 +10,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-__all__ = ["Ensemble", "stack_compatible", "stack_ensembles"]
+__all__ = ["Ensemble", "stack_compatible", "stack_ensembles", "with_partners"]
 
 _SHARED: dict = {}     # topology (residue count, atom residues, atom names) -> name lookups
 
@@ -44,6 +44,13 @@ class Ensemble:
     method : str
         Experimental method from the header where present ('' otherwise).
     warnings : list of str
+    partners : list of Ensemble
+        Other protein chains of the same models (same model count and order), used only as
+        surroundings of this chain by the through-space terms (:func:`with_partners`): the
+        partner of a homodimer, the other subunits of a complex. Empty for a single chain.
+    chain_starts : tuple of int
+        Residue indices where a chain begins: ``(0,)`` for one chain; set by
+        :func:`with_partners` on the combined ensemble (termini, chain junctions).
     """
 
     name: str
@@ -60,6 +67,8 @@ class Ensemble:
     built: np.ndarray
     method: str = ""
     warnings: list[str] = field(default_factory=list)
+    partners: list = field(default_factory=list)
+    chain_starts: tuple = (0,)
     _index: dict | None = field(default=None, repr=False, compare=False)
 
     @property
@@ -154,7 +163,8 @@ class Ensemble:
         which = list(which)
         return dataclasses.replace(self, coords=self.coords[which],
                                    model_names=[self.model_names[i] for i in which],
-                                   warnings=list(self.warnings), _index=None)
+                                   warnings=list(self.warnings), _index=None,
+                                   partners=[p.select_models(which) for p in self.partners])
 
 
 def stack_compatible(a: Ensemble, b: Ensemble) -> bool:
@@ -163,6 +173,8 @@ def stack_compatible(a: Ensemble, b: Ensemble) -> bool:
     changes nothing an ensemble-wide step derives from the topology."""
     if a is b:
         return True
+    if a.partners or b.partners:      # complexes are processed one file at a time
+        return False
     if a.chain_id != b.chain_id or a.n_atoms != b.n_atoms or a.n_residues != b.n_residues:
         return False
     for f in ("res_seq", "res_icode", "res_name", "atom_res", "atom_name", "element", "built"):
@@ -184,4 +196,33 @@ def stack_ensembles(ensembles: list[Ensemble]) -> Ensemble:
     return dataclasses.replace(first, sources=[s for e in ensembles for s in e.sources],
                                model_names=[m for e in ensembles for m in e.model_names],
                                coords=np.concatenate([e.coords for e in ensembles]),
-                               warnings=list(first.warnings), _index=None)
+                               warnings=list(first.warnings), _index=None,
+                               partners=[stack_ensembles([e.partners[k] for e in ensembles])
+                                         for k in range(len(first.partners))])
+
+
+def with_partners(ens: Ensemble) -> Ensemble:
+    """The chain and its partner chains as one ensemble (the chain's atoms first, so its atom
+    and residue indices stay valid), for terms that sum over the surroundings of a target atom.
+
+    ``ens`` itself when it has no partners. The partners' residues follow the chain's, each
+    chain's residues numbered on from the one before; ``chain_starts`` marks where each chain
+    begins (a chain junction is never a peptide bond: the terms test the C–N distance).
+    """
+    if not ens.partners:
+        return ens
+    parts = [ens] + [p for p in ens.partners if p.n_models == ens.n_models]
+    starts = np.cumsum([0] + [p.n_residues for p in parts])
+    cat = np.concatenate
+    return Ensemble(name=ens.name, sources=list(ens.sources), model_names=list(ens.model_names),
+                    chain_id="+".join(p.chain_id for p in parts),
+                    res_seq=cat([p.res_seq for p in parts]),
+                    res_icode=cat([np.asarray(p.res_icode, dtype="U1") for p in parts]),
+                    res_name=cat([np.asarray(p.res_name, dtype="U3") for p in parts]),
+                    atom_res=cat([np.asarray(p.atom_res, dtype=np.int64) + starts[k]
+                                  for k, p in enumerate(parts)]),
+                    atom_name=cat([np.asarray(p.atom_name, dtype="U4") for p in parts]),
+                    element=cat([np.asarray(p.element, dtype="U2") for p in parts]),
+                    coords=cat([p.coords for p in parts], axis=1),
+                    built=cat([p.built for p in parts]), method=ens.method,
+                    chain_starts=tuple(int(x) for x in starts[:-1]))

@@ -123,7 +123,8 @@ def _gather(coords: np.ndarray, idx: np.ndarray) -> np.ndarray:
 
 
 def add_hydrogens(ens: Ensemble) -> Ensemble:
-    """Return a copy of ``ens`` with missing protons built from ideal geometry.
+    """Return a copy of ``ens`` with missing protons built from ideal geometry (its partner
+    chains, :attr:`Ensemble.partners`, get theirs too).
 
     Parameters
     ----------
@@ -140,6 +141,13 @@ def add_hydrogens(ens: Ensemble) -> Ensemble:
     --------
     >>> ens = add_hydrogens(read_models("1ubq.pdb", build_hydrogens=False)[0])  # doctest: +SKIP
     """
+    out = _add_hydrogens_chain(ens)
+    if ens.partners:
+        out.partners = [_add_hydrogens_chain(p) for p in ens.partners]
+    return out
+
+
+def _add_hydrogens_chain(ens: Ensemble) -> Ensemble:
     g = geometry_parameters()
     xyz = ens.coords
     new_res, new_name, new_xyz = [], [], []
