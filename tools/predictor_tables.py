@@ -12,8 +12,8 @@ HERE = Path(__file__).resolve().parent
 
 CAUSES = {
     "H": "amide H depends on hydrogen-bond geometry and solvent exposure, which NMR models and "
-         "re-calculations reproduce poorly (the fitted distance/angle basis gains 0.010 ppm, not more), and "
-         "the hydrogen-bond terms see no inter-chain bonds in the dimers",
+         "re-calculations reproduce poorly (the fitted distance/angle basis gains 0.010 ppm, not more); the "
+         "homodimers' partner chains are seen (table above) and change it by less than 0.001 ppm",
     "HA": "within 0.03 ppm; the remaining error is spread over proteins (no single outlier protein)",
     "CA": "dominated by a few proteins fitted from re-calculated models (worst listed); no correction for "
           "deuterium isotope effects or for sample conditions beyond temperature/pH",
@@ -47,10 +47,11 @@ def unmet(ds, results, full, GOALS, BACKBONE):
     lines += ["", "Not done in this round: per-state expected errors in the scorer (the state would come from the "
               "model being scored, see the tail table; the scorer uses per-residue-type factors instead, which "
               "depend on the sequence only); "
-              "inter-chain through-space terms for the homodimers; a correction for deuterium isotope shifts "
+              "a correction for deuterium isotope shifts "
               "(2loy is perdeuterated, engrailed_hd 70 % 2H; only the per-protein offset absorbs their mean). "
               "Done in this round beside the predictor: a residue-level outlier rule (see the tail table and "
-              "docs/outputs.md, residue flag)."]
+              "docs/outputs.md, residue flag); partner chains as surroundings of the through-space terms "
+              "(table 'Partner chains as surroundings')."]
     return lines
 
 

@@ -26,6 +26,7 @@ import predictor_tables as tables  # noqa: E402
 import realdata_pairs as rp  # noqa: E402
 
 from shiftcheck.predict.calibrate import collect, lambda_grid, load_settings  # noqa: E402
+from shiftcheck.predict.crossval import pooled_error  # noqa: E402
 from shiftcheck.predict.crossval import GroupedRows, choose_lambda  # noqa: E402
 
 NUCLEI = ("H", "HA", "CA", "CB", "C", "N", "HMe", "Haro")
@@ -139,9 +140,9 @@ def main() -> int:
              "2kcu, 2png), else the 5-model re-calculation distributed as the folder's .cif.gz file ( 2k07, 2kko, 2ko1, 2loy, "
              "2luz), except 6nbn, whose AMBER re-calculation is the only model with its disulfides "
              "formed. nef_set/2juw and nef_set/2kpu are the entries of so_2176 and yppr and are not "
-             "counted twice. Homodimers (2jr2, 2kko, 2ko1): chain A only, and all through-space terms "
-             "see chain A only (the predictor works per chain; no inter-chain ring currents or "
-             "hydrogen bonds). The BMRB files of 2k07 and 2ko1 are bare saveframes; the tools read "
+             "counted twice. Homodimers (2jr2, 2kko, 2ko1): chain A is scored, and its through-space terms "
+             "(ring currents, hydrogen bonds, peptide anisotropy, burial, electric field) also see chain B "
+             "(partner chains as surroundings; see the table of that name). The BMRB files of 2k07 and 2ko1 are bare saveframes; the tools read "
              "them by prepending a `data_` line in memory. Measured shifts further from random coil "
              "than the `target_screen` bounds of calibration.json are left out of fits and figures "
              f"as deposition errors ({_screened(ds, settings)}).", "",
@@ -203,6 +204,7 @@ def main() -> int:
         lines.append(f"| {d.label} | " + " | ".join(cells) + " |")
     lines += _fixed_split(ds, settings, default_rm, results, full)
     lines += _ablation(ds, settings, default_rm)
+    lines += _partners(ds, settings, default_rm)
     lines += tables.tails(ds, settings, default_rm, loo, LAMS, NUCLEI)
     lines += tables.unmet(ds, results, full, GOALS, BACKBONE)
     lines += _external(settings) + ["", f"Generated in {time.time() - t0:.0f} s.", END]
@@ -283,6 +285,56 @@ def _ablation(ds, settings, rm):
              "(tools/ablation.py)", ""]
     p = json.loads((HERE.parent / "shiftcheck/data/params_default.json").read_text())
     return lines + ablation.table(ablation.ablation(ds, settings, rm, p["ridge_lambda"]["by_nucleus"]))
+
+
+def _partners(ds, settings, rm):
+    """Leave-one-protein-out with and without the partner chains of the homodimer pairs (the
+    pairs that name a chain): pooled RMSD per class and each homodimer's own RMSD."""
+    import shiftcheck.io.coords as co
+    from shiftcheck.predict.crossval import GroupedRows
+
+    dim = [p for p in rp.pairs() if p.chain]
+    if not dim:
+        return []
+    orig = co.read_models
+    co.read_models = lambda paths, chain=None: orig(paths, chain=chain, partners="ignore")
+    try:
+        alone = rp.load(dim, cache=False)
+    finally:
+        co.read_models = orig
+    labels = {p.label for p in dim}
+    variants = {"partners used (shipped)": ds,
+                "partners ignored": [d for d in ds if d.label not in labels] + alone}
+    it = int(settings["referencing_iterations"]["value"])
+    lams = json.loads((HERE.parent / "shiftcheck/data/params_default.json").read_text())["ridge_lambda"]["by_nucleus"]
+    short = {p.shifts: p.shifts.split("nef_set/")[-1].split("/")[0] for p in dim}
+    pooled, own = {}, {}
+    for name, data in variants.items():
+        gid = {g: i for i, g in enumerate(sorted({d.group for d in data}))}
+        for nuc in BACKBONE:
+            names, X, y, d, w = collect(data, nuc, settings["groups"][nuc], rm, settings["conformation"],
+                                        burial=settings.get("burial"), screen=settings.get("target_screen"),
+                                        models="mean")
+            rows = GroupedRows(names, X, y, d, w, np.array([gid[data[k].group] for k in d]))
+            pred = rows.loo(float(lams[nuc]), it)
+            pooled[(name, nuc)] = pooled_error(rows.y, pred, rows.w, rows.group_of)
+            for g, lab in short.items():
+                m = rows.group_of == gid[g]
+                r = y[m] - pred[m]
+                own[(name, lab, nuc)] = float(np.sqrt(np.mean((r - np.median(r)) ** 2))) if m.any() else np.nan
+    lines = ["", "### Partner chains as surroundings (homodimers, leave-one-protein-out RMSD, ppm)", "",
+             "The homodimer pairs (" + ", ".join(sorted(short.values())) + ", chain A scored) read with their "
+             "partner chain as surroundings of the through-space terms (ring currents, hydrogen bonds, peptide "
+             "anisotropy, burial, electric field; the shipped default for files that are not crystal structures) "
+             "and with it ignored; every other pair is the same in both. The fit is redone in each case at the "
+             "shipped λ.", "",
+             "| variant | scope | " + " | ".join(BACKBONE) + " |", "|---|---|" + "---|" * len(BACKBONE)]
+    for name in variants:
+        lines.append(f"| {name} | all 23 proteins | " + " | ".join(f"{pooled[(name, n)]:.4f}" for n in BACKBONE) + " |")
+    for lab in sorted(short.values()):
+        for name in variants:
+            lines.append(f"| {name} | {lab} | " + " | ".join(f"{own[(name, lab, n)]:.3f}" for n in BACKBONE) + " |")
+    return lines
 
 
 def _external(settings):
