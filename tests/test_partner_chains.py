@@ -23,6 +23,7 @@ from shiftcheck.predict.features import StructureFeatures
 from shiftcheck.predict.ringcurrent import ring_current_factors
 from shiftcheck.predict.rings import RING_ATOMS
 from shiftcheck.structure.ensemble import with_partners
+from shiftcheck.structure.quality import describe, geometry_summary, is_bad, partner_clashes
 
 
 @pytest.fixture(scope="module")
@@ -156,3 +157,26 @@ def test_cli_predict_option(realdata, tmp_path):
     bad = subprocess.run([sys.executable, "-m", "shiftcheck", "predict", str(f), "--partner-chains", "x"],
                          capture_output=True, text=True)
     assert bad.returncode == 2 and "Traceback" not in bad.stderr
+
+
+def test_clashes_with_the_partner_count_in_the_geometry_line(dimer):
+    # built clash case: the partner moved onto the chain (1 A off) interpenetrates it; moved far
+    # away it cannot touch it; the deposited dimer (NMR, refined) has few inter-chain clashes
+    ens = dimer.select_models([0, 1])
+    b = ens.partners[0]
+    onto = dataclasses.replace(ens, partners=[dataclasses.replace(
+        b, coords=ens.coords[:, :b.n_atoms] + np.array([1.0, 0, 0]))])
+    far = dataclasses.replace(ens, partners=[dataclasses.replace(b, coords=b.coords + 500.0)])
+    assert b.n_atoms == ens.n_atoms and np.array_equal(b.atom_name, ens.atom_name)
+    n_onto, sev_onto = partner_clashes(onto)
+    assert (n_onto > 300).all() and (sev_onto > 100).all()
+    assert not partner_clashes(far)[0].any()
+    rec = geometry_summary(onto)[0]
+    alone = geometry_summary(dataclasses.replace(ens, partners=[]))[0]
+    assert rec["partner_clashes"] == n_onto[0]
+    assert rec["clashes"] == alone["clashes"] + n_onto[0]
+    assert is_bad(rec)[0]
+    assert is_bad(geometry_summary(far)[0]) == is_bad(alone)
+    deposited = geometry_summary(ens)
+    assert all(r["partner_clashes"] < 20 for r in deposited)
+    assert "with partner chains" in describe(rec)

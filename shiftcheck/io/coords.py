@@ -26,15 +26,11 @@ from ..errors import InputError, ShiftcheckError
 from ..structure.ensemble import Ensemble
 from ._coord_notes import note_dropped, note_missing
 from ._flat import flat_models
+from .chains import PARTNER_MODES, attach_partners, choose_chain
 from .pdb_repair import repair_pdb_columns
 from .textfile import read_text_file
 
 __all__ = ["read_models", "read_model_file", "PARTNER_MODES"]
-
-#: Values of ``partners=`` (and of the CLI's ``--partner-chains``).
-PARTNER_MODES = ("auto", "use", "ignore")
-#: Experimental methods whose files hold an asymmetric unit (other chains may be crystal copies).
-_CRYSTAL_METHODS = ("X-RAY", "NEUTRON", "CRYSTALLOGRAPHY", "FIBER")
 
 _AA20 = frozenset(AA20)
 _WATERS = frozenset({"HOH", "WAT", "DOD", "H2O", "TIP", "TIP3", "SOL"})
@@ -102,7 +98,7 @@ def read_model_file(path: str | os.PathLike, chain: str | None = None, partners:
         ens.warnings[:0] = [f"repaired: {r}" for r in repairs] + (
             ["blank chain ID: read as chain '' (select it with --chain '')"] if ens.chain_id == "" else [])
         if partners != "ignore":
-            _attach_partners(st, path, ens, partners)
+            attach_partners(st, ens, partners, lambda c: _to_ensemble(st, path, c))
         return ens
     except ShiftcheckError:
         raise
@@ -170,77 +166,6 @@ def _residue_names(orig_res: str, names: tuple[str, ...]) -> list[str]:
             _NAME_CACHE.clear()
         _NAME_CACHE[key] = out
     return out
-
-
-def _is_protein_name(name: str) -> bool:
-    try:
-        return normalise_comp_id(name) in _AA20
-    except Exception:
-        return False
-
-
-def _attach_partners(st, path: str, ens: Ensemble, mode: str) -> None:
-    """Read the file's other protein chains into ``ens.partners`` (see :func:`read_models`)."""
-    others = [c for c in _protein_chains(st[0])[0] if c != ens.chain_id]
-    if not others:
-        return
-    names = ", ".join(others)
-    if mode == "auto" and any(k in ens.method.upper() for k in _CRYSTAL_METHODS):
-        ens.warnings.append(f"chain(s) {names} not used as surroundings of chain {ens.chain_id}: in a "
-                            "crystal structure they may be copies of the asymmetric unit rather than "
-                            "partners (--partner-chains use to include them)")
-        return
-    got, left = [], []
-    for c in others:
-        try:
-            p = _to_ensemble(st, path, c)
-        except ShiftcheckError:
-            left.append(c)
-            continue
-        if p.n_models != ens.n_models:
-            left.append(c)
-            continue
-        p.warnings = []
-        got.append(p)
-    ens.partners = got
-    if got:
-        ens.warnings.append(f"chain(s) {', '.join(p.chain_id for p in got)} used as surroundings of chain "
-                            f"{ens.chain_id} (ring currents, hydrogen bonds, burial, electric field; "
-                            "--partner-chains ignore to leave them out)")
-    if left:
-        ens.warnings.append(f"chain(s) {', '.join(left)} not used as surroundings: not in every model")
-
-
-def _protein_chains(model) -> tuple[list[str], dict[str, int], list[str]]:
-    """(protein chains in file order, protein residues per chain, all chain names in order)."""
-    counts: dict[str, int] = {}
-    order: list[str] = []
-    for ch in model:
-        n = sum(1 for r in ch if _is_protein_name(r.name))
-        if ch.name not in counts:
-            order.append(ch.name)
-            counts[ch.name] = 0
-        counts[ch.name] += n
-    return [c for c in order if counts[c] > 0], counts, order
-
-
-def _choose_chain(model, chain: str | None, path: str, warnings: list[str]) -> str:
-    protein, counts, order = _protein_chains(model)
-    if chain is not None:
-        if chain not in counts:
-            raise InputError(f"no chain {chain!r} (chains: {', '.join(order) or 'none'})", path=path)
-        if counts[chain] == 0:
-            raise InputError(f"chain {chain!r} has no protein residues "
-                             f"(protein chains: {', '.join(protein) or 'none'})", path=path)
-        return chain
-    if not protein:
-        names = sorted({r.name for ch in model for r in ch})
-        raise InputError("no protein residues found (residues present: "
-                         f"{', '.join(names[:8]) or 'none'}{' ...' if len(names) > 8 else ''})", path=path)
-    if len(protein) > 1:
-        others = ", ".join(f"{c} ({counts[c]} residues)" for c in protein[1:])
-        warnings.append(f"using chain {protein[0]}; other protein chains: {others} (choose with --chain)")
-    return protein[0]
 
 
 def _pick_altloc(atoms: list[tuple]) -> list[tuple]:
@@ -328,7 +253,7 @@ _KNOWN: dict = {}
 
 def _to_ensemble(st, path: str, chain: str | None) -> Ensemble:
     warnings: list[str] = []
-    chain_id = _choose_chain(st[0], chain, path, warnings)
+    chain_id = choose_chain(st[0], chain, path, warnings)
     base = os.path.basename(path)
     notes: dict = {}
     per_model = []

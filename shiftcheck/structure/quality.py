@@ -8,7 +8,9 @@ torsions mean little, so every scored model gets a geometry record (ranking is n
   ``d < r_i + r_j - 0.4``; pairs of N/O atoms (possible hydrogen bonds) only below 2.5 Å. Atoms
   separated by three or fewer covalent bonds are not tested. Reported per 1000 heavy atoms
   (the scale of all-atom clash scores, but without hydrogens, so the numbers are smaller), plus the
-  count of pairs closer than 2.0 Å ("severe").
+  count of pairs closer than 2.0 Å ("severe"). Clashes with the partner chains of a complex
+  (:attr:`~shiftcheck.structure.ensemble.Ensemble.partners`) count with the chain's own, per 1000
+  heavy atoms of the scored chain, and are also given apart (``partner_clashes``).
 * **Chain breaks**: consecutive residues whose C(i)–N(i+1) distance exceeds 2.0 Å or where
   either atom is missing.
 * **Ramachandran outliers**: (φ, ψ) outside the outer-limit allowed regions of the hard-sphere
@@ -33,7 +35,7 @@ from scipy.spatial import cKDTree
 from ..datafiles import load_data
 from .geometry import backbone_torsions
 
-__all__ = ["constants", "geometry_summary", "clash_pairs", "chain_breaks", "rama_outliers",
+__all__ = ["constants", "geometry_summary", "clash_pairs", "partner_clashes", "chain_breaks", "rama_outliers",
            "bonded_within", "is_bad", "describe", "result_geometry"]
 
 _SPACING = 1.0e4
@@ -75,6 +77,7 @@ def _topology_bonds(ens) -> tuple[np.ndarray, np.ndarray]:
     side = geometry_table()["sidechain"]
     rings = constants()["ring_closures"]
     pairs = []
+    starts = set(getattr(ens, "chain_starts", (0,)))          # a chain junction is no bond
     bb = [("N", "CA"), ("CA", "C"), ("C", "O"), ("CA", "CB"), ("C", "OXT")]
     for r in range(ens.n_residues):
         rn = str(ens.res_name[r])
@@ -83,7 +86,7 @@ def _topology_bonds(ens) -> tuple[np.ndarray, np.ndarray]:
             i, j = ens.index(r, a), ens.index(r, b)
             if i >= 0 and j >= 0:
                 pairs.append((i, j))
-        if r + 1 < ens.n_residues:                     # peptide bond to the next residue
+        if r + 1 < ens.n_residues and r + 1 not in starts:     # peptide bond to the next residue
             i, j = ens.index(r, "C"), ens.index(r + 1, "N")
             if i >= 0 and j >= 0:
                 pairs.append((i, j))
@@ -166,6 +169,22 @@ def clash_pairs(ens) -> dict[str, np.ndarray]:
             "severe": d[hit] < float(c["severe_distance"]["value"])}
 
 
+def partner_clashes(ens) -> tuple[np.ndarray, np.ndarray]:
+    """Clashing heavy-atom pairs between the chain and its partner chains
+    (:attr:`~shiftcheck.structure.ensemble.Ensemble.partners`), per model: (all, severe),
+    two int arrays (n_models,); zeros without partners. Same rule as :func:`clash_pairs`."""
+    from .ensemble import with_partners
+
+    zero = np.zeros(ens.n_models, dtype=np.int64)
+    if not ens.partners:
+        return zero, zero.copy()
+    cl = clash_pairs(with_partners(ens))
+    inter = (cl["i"] < ens.n_atoms) & (cl["j"] >= ens.n_atoms)     # i < j: i in the chain
+    m = cl["model"][inter]
+    return (np.bincount(m, minlength=ens.n_models),
+            np.bincount(m[cl["severe"][inter]], minlength=ens.n_models))
+
+
 def chain_breaks(ens) -> np.ndarray:
     """Bool (n_models, n_res - 1): True where C(i)–N(i+1) is longer than the limit or missing."""
     r = np.arange(ens.n_residues)
@@ -205,8 +224,9 @@ def geometry_summary(ens) -> list[dict]:
     cl = clash_pairs(ens)
     br = chain_breaks(ens)
     out_r, defined = rama_outliers(ens)
-    n_cl = np.bincount(cl["model"], minlength=ens.n_models)
-    n_sev = np.bincount(cl["model"][cl["severe"]], minlength=ens.n_models)
+    p_cl, p_sev = partner_clashes(ens)           # with partner chains: counted with the chain's own
+    n_cl = np.bincount(cl["model"], minlength=ens.n_models) + p_cl
+    n_sev = np.bincount(cl["model"][cl["severe"]], minlength=ens.n_models) + p_sev
     recs = []
     for k in range(ens.n_models):
         nd = int(defined[k].sum())
@@ -215,6 +235,7 @@ def geometry_summary(ens) -> list[dict]:
             "model": ens.model_names[k], "heavy_atoms": int(n_heavy[k]),
             "clashes": int(n_cl[k]), "clashes_per_1000": round(float(n_cl[k]) * per, 2),
             "severe_pairs": int(n_sev[k]), "severe_per_1000": round(float(n_sev[k]) * per, 2),
+            "partner_clashes": int(p_cl[k]),
             "chain_breaks": int(br[k].sum()),
             "break_after": [ens.residue_label(int(i)) for i in np.flatnonzero(br[k])[:5]],
             "rama_outliers": int(out_r[k].sum()), "rama_residues": nd,
@@ -245,8 +266,9 @@ def is_bad(rec: dict) -> tuple[bool, list[str]]:
 def describe(rec: dict) -> str:
     """One line for the console/report, e.g. 'clashes 1.2/1000 (0 < 2 A), 0 breaks, Rama 0.0 %'."""
     pct = "-" if rec["rama_outliers_pct"] is None else f"{rec['rama_outliers_pct']:.1f} %"
+    inter = f", {rec['partner_clashes']} with partner chains" if rec.get("partner_clashes") else ""
     return (f"clashes {rec['clashes_per_1000']:.1f}/1000 atoms ({rec['severe_pairs']} < "
-            f"{constants()['severe_distance']['value']:g} A), {rec['chain_breaks']} chain breaks, "
+            f"{constants()['severe_distance']['value']:g} A{inter}), {rec['chain_breaks']} chain breaks, "
             f"Ramachandran outliers {pct}")
 
 
