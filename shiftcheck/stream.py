@@ -257,9 +257,9 @@ def collect(results: Iterable, n_files: int, strict: bool = False,
     return infos, maps, proj, secondary, states, ens_warn, pred_warn, skipped_read + skipped_map, geometry
 
 
-def score_stream(shift_path, model_paths, *, list_id=None, entity_id=None, chain=None, partners="auto", temperature=None,
-                 ph=None, strict: bool = False, on_models: Callable | None = None, params=None,
-                 ring_model=None, min_identity=None, reref="auto", k_sigma=None, n_boot=None, seed=None,
+def score_stream(shift_path, model_paths, *, list_id=None, entity_id=None, chain=None, partners="auto",
+                 temperature=None, ph=None, strict: bool = False, on_models: Callable | None = None,
+                 params=None, ring_model=None, min_identity=None, reref="auto", k_sigma=None, n_boot=None, seed=None,
                  include_mean=True, models_per_task: int = DEFAULT_MODELS_PER_TASK, jobs: int = 1,
                  scheduler: str | None = None, progress=None):
     """:func:`shiftcheck.pipeline.score_files`, streamed over tasks on the chosen engine

@@ -106,7 +106,8 @@ def _read(task: Task, chain, hydrogens: bool = True, partners: str = "auto"):
     from .isolation import _relabel
 
     if task.body is None:
-        return _relabel(read_models(task.path, chain=chain, build_hydrogens=hydrogens, partners=partners)[0], task.label)
+        return _relabel(read_models(task.path, chain=chain, build_hydrogens=hydrogens,
+                                    partners=partners)[0], task.label)
     with open(task.path, "rb") as fh:
         head = fh.read(task.head)
         fh.seek(task.body[0])

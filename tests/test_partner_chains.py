@@ -6,7 +6,8 @@ reading real files as deposited (PDB 2JR2, an NMR homodimer, public data in
 ../shared/realdata/nef_set; an X-ray file with several chains), the point-dipole factor of the
 partner's rings against Pople's formula written out here (Pople 1956, J. Chem. Phys. 24:1111,
 from memory), translation of the partner far away (physics: the terms are local), termini of
-each chain in the electric-field charges, and the CLI option.
+each chain in the electric-field charges, clashes with the partner in the geometry line (a
+built interpenetrating case), and the CLI option.
 """
 from __future__ import annotations
 
@@ -58,7 +59,8 @@ def test_combined_ensemble_keeps_the_chain_indices(dimer):
     assert env.chain_starts == (0, dimer.n_residues)
     assert env.n_residues == 2 * dimer.n_residues
     np.testing.assert_array_equal(env.atom_name[:n], dimer.atom_name)
-    assert with_partners(dataclasses.replace(dimer, partners=[])) is not env
+    alone = dataclasses.replace(dimer, partners=[])
+    assert with_partners(alone) is alone                            # one chain: nothing combined
 
 
 def test_partner_ring_factor_is_poples_point_dipole(dimer):

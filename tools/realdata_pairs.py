@@ -37,7 +37,7 @@ def read_shifts_any(path: str):
     return read_shifts(path)
 
 
-def _cache_key(p) -> str:
+def _cache_key(p, partners: str = "auto") -> str:
     """Key of one pair's cached features: the input files (path, size, mtime) and the code and
     data files that features depend on (predictor, structure, readers, data files)."""
     import hashlib
@@ -46,6 +46,8 @@ def _cache_key(p) -> str:
     for f in (p.shifts, p.models):
         st = os.stat(f)
         h.update(f"{f}|{st.st_size}|{st.st_mtime_ns}|{p.chain}".encode())
+    if partners != "auto":            # the shipped reading keeps its earlier keys
+        h.update(f"partners={partners}".encode())
     root = HERE.parent / "shiftcheck"
     for sub in ("predict", "structure", "io", "data"):
         for f in sorted((root / sub).glob("*")):
@@ -65,8 +67,11 @@ def _warm(ds, settings) -> None:
             sf.matrix(nuc, None, tuple(groups), rm, settings["conformation"], settings.get("burial"))
 
 
-def load(pair_list=None, cache: bool = True):
+def load(pair_list=None, cache: bool = True, partners: str = "auto"):
     """Datasets (shiftcheck.predict.calibrate.Dataset) for the pairs.
+
+    ``partners`` is passed to :func:`shiftcheck.io.coords.read_models` (``"ignore"``: each model
+    file's other chains are left out; tools/validate_predictor.py compares the two).
 
     With ``cache`` (default) each pair's featurised dataset is pickled under
     ``<repo>/.cache/features/`` (outside git; ``SHIFTCHECK_CACHE`` overrides the folder) and
@@ -86,7 +91,7 @@ def load(pair_list=None, cache: bool = True):
         n_per[p.shifts] = n_per.get(p.shifts, 0) + 1
     out, lists = [], {}
     for p in pair_list:
-        f = cdir / f"{_cache_key(p)}.pkl" if cache else None
+        f = cdir / f"{_cache_key(p, partners)}.pkl" if cache else None
         if f is not None and f.exists():
             out += pickle.loads(f.read_bytes())
             continue
@@ -94,7 +99,7 @@ def load(pair_list=None, cache: bool = True):
             lists[p.shifts] = read_shifts_any(p.shifts)
         sl = lists[p.shifts]
         got = []
-        for ens in read_models([p.models], chain=p.chain):
+        for ens in read_models([p.models], chain=p.chain, partners=partners):
             mp = map_sequence(sl, ens)
             got.append(build_dataset(sl, ens, mp.seq_to_res, p.label, p.shifts, 1.0 / n_per[p.shifts]))
             _warm(got[-1], settings)

@@ -26,8 +26,7 @@ import predictor_tables as tables  # noqa: E402
 import realdata_pairs as rp  # noqa: E402
 
 from shiftcheck.predict.calibrate import collect, lambda_grid, load_settings  # noqa: E402
-from shiftcheck.predict.crossval import pooled_error  # noqa: E402
-from shiftcheck.predict.crossval import GroupedRows, choose_lambda  # noqa: E402
+from shiftcheck.predict.crossval import GroupedRows, choose_lambda, pooled_error  # noqa: E402
 
 NUCLEI = ("H", "HA", "CA", "CB", "C", "N", "HMe", "Haro")
 BACKBONE = ("H", "HA", "CA", "CB", "C", "N")
@@ -290,18 +289,10 @@ def _ablation(ds, settings, rm):
 def _partners(ds, settings, rm):
     """Leave-one-protein-out with and without the partner chains of the homodimer pairs (the
     pairs that name a chain): pooled RMSD per class and each homodimer's own RMSD."""
-    import shiftcheck.io.coords as co
-    from shiftcheck.predict.crossval import GroupedRows
-
     dim = [p for p in rp.pairs() if p.chain]
     if not dim:
         return []
-    orig = co.read_models
-    co.read_models = lambda paths, chain=None: orig(paths, chain=chain, partners="ignore")
-    try:
-        alone = rp.load(dim, cache=False)
-    finally:
-        co.read_models = orig
+    alone = rp.load(dim, partners="ignore")
     labels = {p.label for p in dim}
     variants = {"partners used (shipped)": ds,
                 "partners ignored": [d for d in ds if d.label not in labels] + alone}

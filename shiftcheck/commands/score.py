@@ -142,7 +142,8 @@ def run(args) -> int:
             print(f"shiftcheck: warning: {s.file}: skipped: {s.reason}", file=sys.stderr)
 
     res = score_files(args.shifts, args.models, list_id=args.list_id, entity_id=args.entity,
-                      chain=args.chain, partners=args.partner_chains, temperature=args.temperature, ph=args.ph, strict=args.strict,
+                      chain=args.chain, partners=args.partner_chains, temperature=args.temperature,
+                      ph=args.ph, strict=args.strict,
                       on_models=on_models, params=args.params, ring_model=args.ring_model,
                       reref=args.reref, k_sigma=args.k_sigma, n_boot=args.bootstrap, seed=args.seed,
                       include_mean=not args.no_mean, min_identity=args.min_identity,

@@ -83,7 +83,8 @@ def read_models(paths: str | os.PathLike | Sequence[str | os.PathLike], chain: s
     return out
 
 
-def read_model_file(path: str | os.PathLike, chain: str | None = None, partners: str = "auto") -> Ensemble:
+def read_model_file(path: str | os.PathLike, chain: str | None = None,
+                    partners: str = "auto") -> Ensemble:
     """Read one file into an :class:`Ensemble` (no hydrogens added). See :func:`read_models`."""
     if partners not in PARTNER_MODES:
         raise ValueError(f"partners must be one of {', '.join(PARTNER_MODES)}, not {partners!r}")

@@ -5,7 +5,8 @@ Each builder is ``f(sf, nucleus, sel, settings) -> {name: (n_models, sel.size) a
 class ``nucleus``, ``settings`` a :class:`~shiftcheck.predict.terms.FeatureSettings`. They are thin
 adapters over the term modules, which compute the physics vectorised over models; expensive parts
 are cached on ``sf``. Through-space terms (ring currents, hydrogen bonds, peptide anisotropy,
-burial, electric field) sum over :func:`surroundings`, which includes the partner chains. Columns are finite (geometric factors that cannot be computed are 0).
+burial, electric field) sum over :func:`surroundings`, which includes the partner chains.
+Columns are finite (geometric factors that cannot be computed are 0).
 """
 from __future__ import annotations
 
@@ -136,7 +137,8 @@ def anisotropy(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     """Peptide-group McConnell terms (:mod:`shiftcheck.predict.anisotropy`)."""
     from .anisotropy import anisotropy_features
 
-    got = sf.cached(("anisotropy", nucleus), lambda: anisotropy_features(surroundings(sf), _selected(sf, nucleus)))
+    got = sf.cached(("anisotropy", nucleus),
+                    lambda: anisotropy_features(surroundings(sf), _selected(sf, nucleus)))
     return {f"aniso:{f}": np.nan_to_num(g) for f, g in got.items()}
 
 
@@ -155,5 +157,6 @@ def efield(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     """Buckingham electric-field terms of H/HA (:mod:`shiftcheck.predict.efield`)."""
     from .efield import efield_features
 
-    got = sf.cached(("efield", nucleus), lambda: efield_features(surroundings(sf), _selected(sf, nucleus)))
+    got = sf.cached(("efield", nucleus),
+                    lambda: efield_features(surroundings(sf), _selected(sf, nucleus)))
     return {f"ef:{f}": g for f, g in got.items()}
