@@ -22,6 +22,9 @@ from shiftcheck.predict.crossval import GroupedRows, choose_lambda  # noqa: E402
 
 BACKBONE = ("H", "HA", "CA", "CB", "C", "N")
 ALL6 = {n: 1 for n in BACKBONE}
+#: neighbour-torsion blocks before the forward search of tools/neighbour_search.py
+BEFORE_SEARCH = {"H": [["psi", -1, 2]], "N": [["phi_psi", -1, 2]], "CA": [["psi", -1, 2], ["psi", 1, 1]],
+                 "C": [["phi", 1, 1], ["psi", 1, 2]], "CB": [["psi", -1, 2], ["psi", 1, 1]]}
 
 
 def _drop_group(g):
@@ -79,6 +82,8 @@ VARIANTS = [
     ("− burial (CB, C, N)", _drop_group("burial"), "mean"),
     ("− neighbour conformation (φ/ψ of i±1)", _set_conf("neighbours", {}), "mean"),
     ("− neighbour ψ(i±1) for CB only (new)", _drop_neigh(("CB",)), "mean"),
+    ("− neighbour blocks of the forward search (φ/ψ(i−2) for H; φ/ψ(i−1) order 4, φ/ψ(i+1), φ(i+2) for N; "
+     "ψ(i+1) order 2 for CA; φ/ψ(i+2) for C; new)", _set_conf("neighbours", BEFORE_SEARCH), "mean"),
     ("− neighbour residue types (CB, N)", _drop_group("neighbour"), "mean"),
     ("− neighbour residue types for CB only (new)", _drop_group_of("neighbour", ("CB",)), "mean"),
     ("− χ1 (CB, N)", _set_conf("chi1", {}), "mean"),
@@ -91,6 +96,7 @@ VARIANTS = [
     ("+ χ1 (shared) for every backbone class (not kept)", _set_conf("chi1", ALL6), "mean"),
     ("+ neighbour residue types for H, HA, CA, C (not kept)", _add_group("neighbour"), "mean"),
     ("+ neighbour ψ(i−1), ψ(i+1) for HA (not kept)", _add_neigh({"HA": [["psi", -1, 2], ["psi", 1, 1]]}), "mean"),
+    ("+ φ/ψ(i+1) for HA (not kept)", _add_neigh({"HA": [["phi_psi", 1, 1]]}), "mean"),
     ("fixed ridge λ = 100 (no CV)", lambda s: s.__setitem__("ridge_lambda", {"value": 100.0}), "mean"),
 ]
 

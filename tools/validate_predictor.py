@@ -206,6 +206,7 @@ def main() -> int:
     lines += _partners(ds, settings, default_rm)
     lines += tables.tails(ds, settings, default_rm, loo, LAMS, NUCLEI)
     lines += tables.unmet(ds, results, full, GOALS, BACKBONE)
+    lines += tables.isotope(ds, results, full, settings)
     lines += _external(settings) + ["", f"Generated in {time.time() - t0:.0f} s.", END]
     _write_section(HERE.parent / "docs/validation.md", "\n".join(lines) + "\n")
     (HERE / "validation_margins.json").write_text(json.dumps(
