@@ -37,6 +37,13 @@ def test_neighbour_blocks_take_the_neighbours_torsions():
     assert np.allclose(f[0, 2], fourier_2d(phi[0, 1:2], psi[0, 1:2], 1)[1][0])
     with pytest.raises(ValueError):
         neighbour_block(tors, "omega", 1, 1)
+    # chi1 of residue i-1 (undefined for Gly/Ala: NaN -> 0); needs the chi1 torsions
+    chi = np.array([[np.nan, -65.0, 180.0, 60.0]])
+    names, f = neighbour_block(dict(tors, chi1=chi), "chi1", -1, 1)
+    assert names == ["chi1_prev_cos1", "chi1_prev_sin1"] and np.all(f[0, :2] == 0)
+    assert np.allclose(f[0, 2], [np.cos(np.radians(-65.0)), np.sin(np.radians(-65.0))])
+    with pytest.raises(ValueError):
+        neighbour_block(tors, "chi1", -1, 1)
     # without settings (older parameter files): psi(i-1) for N, chi1 only for CB
     n_old, _ = conformation_features(tors, np.array(["ALA"] * 4), "N")
     assert "psi_prev_cos2" in n_old and not any(n.startswith(("prev:", "chi1")) for n in n_old)
@@ -61,6 +68,30 @@ def test_residue_class_order_can_differ_per_nucleus():
         # the Gly block is zero on the Val residue and the Val (beta-branched) block on Gly
         g = [names.index(n) for n in gly]
         assert np.all(f[0, 1, g] == 0) and np.any(f[0, 0, g] != 0)
+
+
+def test_own_torsion_order_can_differ_per_nucleus():
+    # the 'order' setting takes the same int-or-dict form as 'class_order' (common practice,
+    # no source); the shared 2-D basis of order k has 4k + 4k^2 columns (48 for k = 3)
+    from shiftcheck.predict.term_columns import conformation
+    from shiftcheck.predict.terms import FeatureSettings
+
+    class SF:  # the two attributes the column builder reads, plus targets' residue index
+        torsions = {"phi": np.array([[-60.0, -120.0]]), "psi": np.array([[-40.0, 130.0]]),
+                    "chi1": np.array([[np.nan, 60.0]])}
+
+        class ens:
+            res_name = np.array(["ALA", "VAL"])
+
+        class targets:
+            res_index = np.array([0, 1])
+
+    for nuc, k in (("N", 3), ("H", 2)):
+        s = FeatureSettings("haigh-mallion", {"order": {"default": 2, "N": 3}, "class_order": 1,
+                                              "neighbours": {}, "chi1": {}})
+        cols = conformation(SF, nuc, np.array([0, 1]), s)
+        shared = [c for c in cols if not c.startswith(("conf:GLY:", "conf:PRO:", "conf:BETA:"))]
+        assert len(shared) == 4 * k + 4 * k * k
 
 
 @pytest.fixture(scope="session")

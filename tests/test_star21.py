@@ -165,3 +165,15 @@ def test_21_several_lists(tmp_path):
     assert read_shifts(p, entity_id="protA").list_name == "shifts_a"
     with pytest.raises(InputError, match="no shift list"):
         read_shifts(p, list_id="nope")
+
+
+def test_star3_line_numbers_from_the_shift_frame(realdata):
+    # NMR-STAR 3.1 (BMRB 17769, as deposited): the line of each row is found by parsing only
+    # the shift list's save frame; every row's line holds its residue label and value as written
+    sl = read_shifts(realdata / "ubiquitin" / "bmr17769.str")
+    lines = (realdata / "ubiquitin" / "bmr17769.str").read_text().splitlines()
+    assert len(set(sl.line)) == len(sl) and min(sl.line) > 1
+    for k in (0, len(sl) // 2, len(sl) - 1):
+        row = lines[sl.line[k] - 1].split()
+        assert sl.comp_id[k] in row and sl.atom_id[k] in row
+        assert any(t.replace(".", "", 1).isdigit() and float(t) == sl.value[k] for t in row), row

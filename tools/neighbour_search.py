@@ -5,8 +5,9 @@
     SHIFTCHECK_REALDATA=../shared/realdata python tools/neighbour_search.py check chosen.json [N C ...]
 
 ``search``: for each nucleus class, every step tries each single change (a block at offset −2..+2
-for φ, ψ (order 1–2) or the full φ/ψ basis (order 1–4), removing a block, toggling the neighbour
-residue types and burial groups) and keeps the one that lowers the leave-one-protein-out RMSD over
+for φ, ψ (order 1–2) or the full φ/ψ basis (order 1–4), a χ1 block of residue i±1 (order 1–2),
+removing a block, the order (1–3) of residue i's own φ/ψ basis, toggling the neighbour residue
+types and burial groups) and keeps the one that lowers the leave-one-protein-out RMSD over
 the 17 training proteins of the fixed split (tools/realdata_split.json) most, at the ridge strengths
 of the shipped parameter file; it stops when the best gain is < 0.005 ppm. The 6 held-out proteins
 are not used. ``check``: the fixed-split held-out RMSD (fit on 17, test on 6) and the 23-protein
@@ -31,6 +32,7 @@ import ablation as ab  # noqa: E402
 import realdata_pairs as rp  # noqa: E402
 import validate_predictor as vp  # noqa: E402
 from shiftcheck.predict.calibrate import collect, load_settings  # noqa: E402
+from shiftcheck.predict.conformation import class_order_for  # noqa: E402
 from shiftcheck.predict.crossval import GroupedRows  # noqa: E402
 
 NUCLEI = ["N", "C", "CA", "H", "HA", "CB"]
@@ -55,9 +57,29 @@ def _moves(s, nuc):
                 continue
 
             def f(t, off=off, opt=opt):
-                blocks = [b for b in t["conformation"]["neighbours"].get(nuc, []) if int(b[1]) != off]
+                blocks = [b for b in t["conformation"]["neighbours"].get(nuc, [])
+                          if int(b[1]) != off or b[0] == "chi1"]
                 t["conformation"]["neighbours"][nuc] = sorted(blocks + ([opt] if opt else []), key=lambda b: b[1])
             yield f"offset {off:+d} -> {opt}", f
+    chi = {int(b[1]): b for b in s["conformation"]["neighbours"].get(nuc, []) if b[0] == "chi1"}
+    for off in (-1, 1):
+        for opt in (None, ["chi1", off, 1], ["chi1", off, 2]):
+            if chi.get(off) == opt:
+                continue
+
+            def f(t, off=off, opt=opt):
+                blocks = [b for b in t["conformation"]["neighbours"].get(nuc, [])
+                          if not (b[0] == "chi1" and int(b[1]) == off)]
+                t["conformation"]["neighbours"][nuc] = sorted(blocks + ([opt] if opt else []), key=lambda b: b[1])
+            yield f"chi1 {off:+d} -> {opt}", f
+    own = class_order_for(s["conformation"].get("order", 2), nuc)
+    for o in (1, 2, 3):
+        if o != own:
+            def f(t, o=o):
+                cur_o = t["conformation"].get("order", 2)
+                t["conformation"]["order"] = dict(cur_o) if isinstance(cur_o, dict) else {"default": int(cur_o)}
+                t["conformation"]["order"][nuc] = o
+            yield f"own phi/psi order {own} -> {o}", f
     for g in ("neighbour", "burial"):
         yield (f"- {g}", ab._drop_group_of(g, (nuc,))) if g in s["groups"][nuc] else (f"+ {g}", ab._add_group(g, (nuc,)))
 
@@ -94,6 +116,7 @@ def search(nuclei, out):
         print(f"{nuc}: {start:.4f} -> {best:.4f} blocks {chosen['conformation']['neighbours'].get(nuc)} "
               f"groups {chosen['groups'][nuc]}", flush=True)
     Path(out).write_text(json.dumps({"neighbours": chosen["conformation"]["neighbours"],
+                                     "order": chosen["conformation"].get("order", 2),
                                      "groups": chosen["groups"]}, indent=1) + "\n")
 
 
@@ -103,6 +126,7 @@ def check(path, nuclei):
     sel = json.loads(Path(path).read_text())
     cand = copy.deepcopy(settings)
     cand["conformation"]["neighbours"], cand["groups"] = sel["neighbours"], sel["groups"]
+    cand["conformation"]["order"] = sel.get("order", cand["conformation"].get("order", 2))
     train = {d.group for d in ds} - held
     for nuc in nuclei:
         row = []

@@ -89,11 +89,24 @@ def _tag(frame, tag: str) -> str | None:
 
 
 def _row_lines(text: str, path: str, frame_name: str, n_rows: int, k_loop: int) -> list[int]:
-    """File line of each row of the k-th shift loop of a save frame (best effort)."""
+    """File line of each row of the k-th shift loop of a save frame (best effort). Only that
+    save frame's text is parsed when it can be cut out (``save_NAME`` ... ``save_`` lines);
+    otherwise, or if that gives another row count, the whole file."""
+    m = re.search(rf"^[ \t]*save_{re.escape(frame_name)}[ \t]*$", text, re.M)
+    end = re.compile(r"^[ \t]*save_[ \t]*$", re.M).search(text, m.end()) if m else None
+    if m and end:
+        before = len(text[:m.start()].splitlines())
+        lines = _frame_row_lines("data_frame\n" + text[m.start():end.end()], path, frame_name, n_rows, k_loop)
+        if lines is not None:
+            return [ln - 1 + before for ln in lines]
+    return _frame_row_lines(text, path, frame_name, n_rows, k_loop) or [0] * n_rows
+
+
+def _frame_row_lines(text: str, path: str, frame_name: str, n_rows: int, k_loop: int) -> list[int] | None:
     try:
         blocks = parse_star_syntax(text, path)
     except ShiftcheckError:
-        return [0] * n_rows
+        return None
     for b in blocks:
         for f in b.frames:
             if f.name != frame_name:
@@ -101,7 +114,7 @@ def _row_lines(text: str, path: str, frame_name: str, n_rows: int, k_loop: int) 
             loops = [lp for lp in f.loops if any(t.lower() == "_atom_chem_shift.val" for t in lp.tags)]
             if k_loop < len(loops) and len(loops[k_loop].rows) == n_rows:
                 return list(loops[k_loop].row_lines)
-    return [0] * n_rows
+    return None
 
 
 def _conditions(entry, shift_frame) -> SampleConditions:

@@ -26,6 +26,9 @@ from ..errors import InputError
 __all__ = ["StarLoop", "StarFrame", "StarBlock", "parse_star_syntax"]
 
 _TOKEN = re.compile(r"""[ \t\f\v]*(?:(\#.*)|'(.*?)'(?=\s|$)|"(.*?)"(?=\s|$)|(\S+))""")
+#: a line the tokenizer may split on blanks: printable ASCII and tabs only, no quote or comment
+#: character (then ``str.split`` gives exactly the bare words the pattern above would)
+_PLAIN = re.compile(r"[^\x20-\x7e\t]|['\"#]")
 
 
 @dataclass
@@ -102,8 +105,13 @@ def _tokens(text: str, path: str):
             else:
                 i += 1
             continue
-        pos = 0
         ln = i + 1
+        if _PLAIN.search(s) is None:
+            for w in s.split():
+                yield "word", w, ln
+            i += 1
+            continue
+        pos = 0
         while pos < len(s):
             m = _TOKEN.match(s, pos)
             if m is None or m.end() == pos:

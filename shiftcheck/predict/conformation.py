@@ -61,7 +61,7 @@ def fourier_2d(phi: np.ndarray, psi: np.ndarray, order: int, prefix: str = "") -
 LEGACY_NEIGHBOURS = {"H": [["psi", -1, 2]], "N": [["psi", -1, 2]], "C": [["phi", 1, 1]], "CA": [["phi", 1, 1]]}
 #: χ1 orders used when a parameter file names none.
 LEGACY_CHI1 = {"CB": 1}
-_TORSIONS = ("phi", "psi", "phi_psi")
+_TORSIONS = ("phi", "psi", "phi_psi", "chi1")
 
 
 def _shifted(a: np.ndarray, shift: int) -> np.ndarray:
@@ -82,7 +82,7 @@ def _tag(shift: int) -> str:
 
 def neighbour_block(torsions: dict[str, np.ndarray], kind: str, shift: int, order: int
                     ) -> tuple[list[str], np.ndarray]:
-    """Fourier terms of a neighbour's torsion(s): ``kind`` 'phi', 'psi' (1-D) or 'phi_psi' (2-D).
+    """Fourier terms of a neighbour's torsion(s): ``kind`` 'phi', 'psi', 'chi1' (1-D) or 'phi_psi' (2-D).
 
     Names: ``psi_prev_cos1`` (1-D, residue i−1), ``prev:phi_cos1*psi_sin2`` (2-D, residue i−1),
     ``phi_next_sin1`` (residue i+1); other offsets are written ``i+2``, ``i-2``.
@@ -93,6 +93,8 @@ def neighbour_block(torsions: dict[str, np.ndarray], kind: str, shift: int, orde
     if kind == "phi_psi":
         return fourier_2d(_shifted(torsions["phi"], shift), _shifted(torsions["psi"], shift),
                           int(order), prefix=f"{tag}:")
+    if kind not in torsions:
+        raise ValueError(f"torsion block '{kind}' needs the '{kind}' torsions")
     return fourier_1d(_shifted(torsions[kind], shift), int(order), f"{kind}_{tag}_")
 
 

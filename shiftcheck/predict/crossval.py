@@ -32,22 +32,43 @@ class GroupedRows:
         self.names, self.X, self.y, self.d, self.w = list(names), X, y, d, w
         self.group_of = np.asarray(group_of)
         self.free = np.array([n == "const" for n in self.names])
-        self.ids = np.unique(d)
-        self.rows = {k: np.flatnonzero(d == k) for k in self.ids.tolist()}
-        self.group = {k: int(self.group_of[r[0]]) for k, r in self.rows.items()}
+        self._index()
         self.G, self.b, self.s, self.W = {}, {}, {}, {}
         for k, r in self.rows.items():
             Xw = X[r] * w[r, None]
             self.G[k], self.b[k], self.s[k] = Xw.T @ X[r], Xw.T @ y[r], Xw.sum(axis=0)
             self.W[k] = float(w[r].sum())
 
-    def _solve(self, keys, lam, offsets=None) -> np.ndarray:
-        G = sum(self.G[k] for k in keys)
-        b = sum(self.b[k] for k in keys)
+    def _index(self):
+        """Rows per dataset id, and the totals over all datasets (filled on first use)."""
+        self.ids = np.unique(self.d)
+        self.rows = {k: np.flatnonzero(self.d == k) for k in self.ids.tolist()}
+        self.group = getattr(self, "group", None) or {k: int(self.group_of[r[0]]) for k, r in self.rows.items()}
+        self.group = {k: self.group[k] for k in self.rows}
+        n = np.array([self.rows[k].size for k in self.ids.tolist()])
+        self._start, self._n = np.concatenate([[0], np.cumsum(n)[:-1]]).astype(int), n
+        self._tot = self._grp = None
+
+    def _sums(self, exclude_group=None):
+        """(G, b, s, W) summed over every dataset not in ``exclude_group``: the total minus that
+        group's part, so a leave-one-out fit costs one k×k subtraction instead of a sum over datasets."""
+        if self._tot is None:
+            keys = ("G", "b", "s", "W")
+            self._tot = [sum(getattr(self, a)[k] for k in self.rows) for a in keys]
+            self._grp = {}
+            for k in self.rows:
+                part = [getattr(self, a)[k] for a in keys]
+                g = self.group[k]
+                self._grp[g] = part if g not in self._grp else [x + y for x, y in zip(self._grp[g], part)]
+        if exclude_group is None or exclude_group not in self._grp:
+            return self._tot
+        return [t - x for t, x in zip(self._tot, self._grp[exclude_group])]
+
+    def _solve(self, keys, lam, offsets=None, exclude_group=None) -> np.ndarray:
+        G, b, s_all, W = self._sums(exclude_group)
         if offsets:
             b = b - sum(offsets[k] * self.s[k] for k in keys)
-        W = sum(self.W[k] for k in keys)
-        mu = sum(self.s[k] for k in keys) / W
+        mu = s_all / W
         var = np.diag(G) / W - mu ** 2
         sd = np.sqrt(np.clip(var, 0.0, None))
         sd = np.where(sd > 1e-12, sd, 1.0)
@@ -55,16 +76,24 @@ class GroupedRows:
         A[np.diag_indices_from(A)] += np.where(self.free, 0.0, lam) + 1e-10
         return np.linalg.solve(A, b / sd) / sd
 
+    def _medians(self, res: np.ndarray) -> np.ndarray:
+        """Median of ``res`` within each dataset id (order of ``self.ids``), from one sort."""
+        v = res[np.lexsort((res, self.d))]
+        lo, hi = self._start + (self._n - 1) // 2, self._start + self._n // 2
+        return 0.5 * (v[lo] + v[hi])
+
     def fit(self, lam: float, iterations: int = 1, exclude_group=None):
         """(coefficients, offsets by dataset id) fitted on every dataset not in ``exclude_group``."""
         keys = [k for k in self.rows if exclude_group is None or self.group[k] != exclude_group]
-        beta = self._solve(keys, lam)
+        beta = self._solve(keys, lam, exclude_group=exclude_group)
+        pos = {k: i for i, k in enumerate(self.ids.tolist())}
+        idx = np.array([pos[k] for k in keys], dtype=int)
         offsets = {}
         for _ in range(iterations):
-            off = np.array([np.median(self.y[self.rows[k]] - self.X[self.rows[k]] @ beta) for k in keys])
+            off = self._medians(self.y - self.X @ beta)[idx]
             off -= np.median(off)
             offsets = dict(zip(keys, off.tolist()))
-            beta = self._solve(keys, lam, offsets)
+            beta = self._solve(keys, lam, offsets, exclude_group)
         return beta, offsets
 
     def loo(self, lam: float, iterations: int = 1) -> np.ndarray:
@@ -93,9 +122,8 @@ class GroupedRows:
         new.names, new.free = self.names, self.free
         new.X, new.y, new.d, new.w = self.X[mask], self.y[mask], self.d[mask], self.w[mask]
         new.group_of = self.group_of[mask]
-        new.ids = np.unique(new.d)
-        new.rows = {k: np.flatnonzero(new.d == k) for k in new.ids.tolist()}
-        new.group = {k: self.group[k] for k in new.rows}
+        new.group = self.group
+        new._index()
         for a in ("G", "b", "s", "W"):
             setattr(new, a, {k: getattr(self, a)[k] for k in new.rows})
         return new
@@ -128,12 +156,13 @@ def _shrunk_ratios(r: np.ndarray, res_type: np.ndarray, n0: float) -> dict[str, 
     """RMS of each residue type's residuals over the pooled RMS, shrunk towards 1 in log space
     with weight k / (k + n0) for a type with k residuals (n0 = inf: every ratio 1)."""
     rms = float(np.sqrt(np.mean(r ** 2)))
+    types, code = np.unique(res_type, return_inverse=True)
+    k = np.bincount(code, minlength=types.size)
+    ms = np.bincount(code, weights=r ** 2, minlength=types.size) / k
     out = {}
-    for t in np.unique(res_type):
-        s = res_type == t
-        k = int(s.sum())
-        raw = float(np.sqrt(np.mean(r[s] ** 2))) / rms if rms > 0 else 1.0
-        out[str(t)] = 1.0 if not np.isfinite(n0) or raw <= 0 else float(np.exp(k / (k + n0) * np.log(raw)))
+    for t, kt, m in zip(types.tolist(), k.tolist(), ms.tolist()):
+        raw = float(np.sqrt(m)) / rms if rms > 0 else 1.0
+        out[str(t)] = 1.0 if not np.isfinite(n0) or raw <= 0 else float(np.exp(kt / (kt + n0) * np.log(raw)))
     return out
 
 
@@ -157,13 +186,14 @@ def heldout_sigma(r, res_type, group_of, n0: float, tail: float) -> np.ndarray:
     """σ of every residual as predicted without its own group: the other groups' shrunk ratios
     (:func:`_shrunk_ratios`) times their tail-matched scale (the ``tail`` quantile of |r / f| / 3)."""
     r, res_type, group_of = np.asarray(r, float), np.asarray(res_type).astype(str), np.asarray(group_of)
+    types, code = np.unique(res_type, return_inverse=True)
     sig = np.empty(r.size)
     for g in np.unique(group_of):
         tr, te = group_of != g, group_of == g
         f = _shrunk_ratios(r[tr], res_type[tr], n0)
-        ftr = np.array([f[t] for t in res_type[tr]])
-        s = float(np.quantile(np.abs(r[tr] / ftr), tail) / 3.0)
-        sig[te] = s * np.array([f.get(t, 1.0) for t in res_type[te]])
+        fv = np.array([f.get(str(t), 1.0) for t in types])       # a type absent from the others: 1
+        s = float(np.quantile(np.abs(r[tr] / fv[code[tr]]), tail) / 3.0)
+        sig[te] = s * fv[code[te]]
     return sig
 
 

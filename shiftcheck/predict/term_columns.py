@@ -13,7 +13,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..chem.residues import AA20
-from .conformation import conformation_features
+from .conformation import class_order_for, conformation_features
 from .randomcoil import _methyl_key
 
 __all__ = ["ring_factors", "offset", "neighbour", "conformation", "ring_current", "hbond", "anisotropy", "burial",
@@ -92,7 +92,7 @@ def conformation(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     """φ/ψ Fourier basis, neighbour torsions, χ1 (:mod:`shiftcheck.predict.conformation`)."""
     conf = settings.conformation
     cn, cf = conformation_features(sf.torsions, sf.ens.res_name, nucleus,
-                                   int(conf.get("order", 2)), conf.get("class_order", 1),
+                                   class_order_for(conf.get("order", 2), nucleus), conf.get("class_order", 1),
                                    conf.get("neighbours"), conf.get("chi1"))
     ri = sf.targets.res_index[sel]
     return {f"conf:{n}": cf[:, ri, k] for k, n in enumerate(cn)}
