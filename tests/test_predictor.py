@@ -52,6 +52,20 @@ def test_neighbour_blocks_take_the_neighbours_torsions():
     assert "prev:phi_sin2*psi_cos2" in n_new and "chi1_cos1" in n_new
 
 
+def test_class_masked_neighbour_block_counts_only_that_class():
+    # definition of the setting (common practice, no source): [kind, offset, order, class] is the
+    # neighbour block of residue i + offset, zero unless that residue is of the class
+    tors = {"phi": np.array([[-60.0, -70.0, 80.0, -100.0]]), "psi": np.array([[130.0, -40.0, 10.0, 120.0]])}
+    res = np.array(["VAL", "ALA", "GLY", "ALA"])
+    names, f = conformation_features(tors, res, "N", neighbours={"N": [["psi", -1, 2, "BETA"]]}, chi1={})
+    cols = [k for k, n in enumerate(names) if n.startswith("BETA@psi_prev_")]
+    assert [names[k] for k in cols] == ["BETA@psi_prev_cos1", "BETA@psi_prev_sin1",
+                                        "BETA@psi_prev_cos2", "BETA@psi_prev_sin2"]
+    # only residue 1 follows a beta-branched residue (Val 0); its value is psi(0) = 130 degrees
+    assert np.all(f[0, [0, 2, 3]][:, cols] == 0)
+    assert np.allclose(f[0, 1, cols[:2]], [np.cos(np.radians(130.0)), np.sin(np.radians(130.0))])
+
+
 def test_residue_class_order_can_differ_per_nucleus():
     # definition of the setting (common practice, no source): an int is one order for every
     # class; a dict names orders per nucleus class with "default" for the rest. A 2-D Fourier

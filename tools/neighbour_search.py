@@ -6,6 +6,8 @@
 
 ``search``: for each nucleus class, every step tries each single change (a block at offset −2..+2
 for φ, ψ (order 1–2) or the full φ/ψ basis (order 1–4), a χ1 block of residue i±1 (order 1–2),
+a ψ or φ/ψ block (order 2) of residue i±1 counted only where that residue is Gly, Pro or
+β-branched,
 removing a block, the order (1–3) of residue i's own φ/ψ basis, toggling the neighbour residue
 types and burial groups) and keeps the one that lowers the leave-one-protein-out RMSD over
 the 17 training proteins of the fixed split (tools/realdata_split.json) most, at the ridge strengths
@@ -48,7 +50,7 @@ def _context():
 
 
 def _moves(s, nuc):
-    cur = {int(b[1]): b for b in s["conformation"]["neighbours"].get(nuc, [])}
+    cur = {int(b[1]): b for b in s["conformation"]["neighbours"].get(nuc, []) if b[0] != "chi1" and len(b) == 3}
     opts = [None] + [[k, 0, o] for k in ("phi", "psi") for o in (1, 2)] + [["phi_psi", 0, o] for o in (1, 2, 3, 4)]
     for off in (-2, -1, 1, 2):
         for o in opts:
@@ -58,7 +60,7 @@ def _moves(s, nuc):
 
             def f(t, off=off, opt=opt):
                 blocks = [b for b in t["conformation"]["neighbours"].get(nuc, [])
-                          if int(b[1]) != off or b[0] == "chi1"]
+                          if int(b[1]) != off or b[0] == "chi1" or len(b) > 3]
                 t["conformation"]["neighbours"][nuc] = sorted(blocks + ([opt] if opt else []), key=lambda b: b[1])
             yield f"offset {off:+d} -> {opt}", f
     chi = {int(b[1]): b for b in s["conformation"]["neighbours"].get(nuc, []) if b[0] == "chi1"}
@@ -72,6 +74,21 @@ def _moves(s, nuc):
                           if not (b[0] == "chi1" and int(b[1]) == off)]
                 t["conformation"]["neighbours"][nuc] = sorted(blocks + ([opt] if opt else []), key=lambda b: b[1])
             yield f"chi1 {off:+d} -> {opt}", f
+    have = [b for b in s["conformation"]["neighbours"].get(nuc, []) if len(b) > 3]
+    for off in (-1, 1):
+        for cls in ("GLY", "PRO", "BETA"):
+            for opt in (["psi", off, 2, cls], ["phi_psi", off, 2, cls]):
+                if opt in have:
+                    continue
+
+                def f(t, opt=opt):
+                    nb = t["conformation"]["neighbours"]
+                    nb[nuc] = sorted(nb.get(nuc, []) + [opt], key=lambda b: b[1])
+                yield f"class block {opt}", f
+    for b in have:
+        def f(t, b=b):
+            t["conformation"]["neighbours"][nuc] = [x for x in t["conformation"]["neighbours"][nuc] if x != b]
+        yield f"drop class block {b}", f
     own = class_order_for(s["conformation"].get("order", 2), nuc)
     for o in (1, 2, 3):
         if o != own:

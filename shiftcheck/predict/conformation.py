@@ -76,6 +76,18 @@ def _shifted(a: np.ndarray, shift: int) -> np.ndarray:
     return out
 
 
+def _shifted_class(cls: np.ndarray, shift: int) -> np.ndarray:
+    """Residue class of residue i + shift at position i ('' outside the chain)."""
+    out = np.full(cls.shape, "", dtype=object)
+    if shift > 0:
+        out[:-shift] = cls[shift:]
+    elif shift < 0:
+        out[-shift:] = cls[:shift]
+    else:
+        out[:] = cls
+    return out
+
+
 def _tag(shift: int) -> str:
     return {-1: "prev", 1: "next"}.get(shift, f"i{shift:+d}")
 
@@ -138,8 +150,12 @@ def conformation_features(torsions: dict[str, np.ndarray], res_name: np.ndarray,
         mask = (cls == c)[None, :, None]
         blocks.append([f"{c}:{n}" for n in cn])
         feats.append(cf * mask)
-    for kind, shift, k in (LEGACY_NEIGHBOURS if neighbours is None else neighbours).get(nucleus, []):
+    for spec in (LEGACY_NEIGHBOURS if neighbours is None else neighbours).get(nucleus, []):
+        kind, shift, k = spec[:3]
         n, f = neighbour_block(torsions, kind, int(shift), int(k))
+        if len(spec) > 3:       # only where residue i + shift is of that class (GLY, PRO, BETA, OTHER)
+            mask = _shifted_class(cls, int(shift)) == str(spec[3])
+            n, f = [f"{spec[3]}@{x}" for x in n], f * mask[None, :, None]
         blocks.append(n)
         feats.append(f)
     k_chi = (LEGACY_CHI1 if chi1 is None else chi1).get(nucleus)
