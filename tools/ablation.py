@@ -83,7 +83,7 @@ VARIANTS = [
     ("− neighbour conformation (φ/ψ of i±1)", _set_conf("neighbours", {}), "mean"),
     ("− neighbour ψ(i±1) for CB only (new)", _drop_neigh(("CB",)), "mean"),
     ("− neighbour blocks of the forward search (φ/ψ(i−2) for H; φ/ψ(i−1) order 4, φ/ψ(i+1), φ(i+2) for N; "
-     "ψ(i+1) order 2 for CA; φ/ψ(i+2) for C; new)", _set_conf("neighbours", BEFORE_SEARCH), "mean"),
+     "ψ(i+1) order 2 for CA; φ/ψ(i+2) for C; the class-masked N blocks; new)", _set_conf("neighbours", BEFORE_SEARCH), "mean"),
     ("− class-masked φ/ψ(i−1) blocks for N (β-branched, Gly residue i−1; new)",
      lambda s: s["conformation"]["neighbours"].__setitem__(
          "N", [b for b in s["conformation"]["neighbours"]["N"] if len(b) == 3]), "mean"),
