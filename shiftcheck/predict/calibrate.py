@@ -40,7 +40,7 @@ from .crossval import tail_scale
 from .features import StructureFeatures
 from .params import FORMAT
 from .randomcoil import load_table
-from .terms import column_rank, default_groups
+from .terms import column_rank, default_groups, term_of_column
 
 if TYPE_CHECKING:
     from ..shiftlist import ShiftList
@@ -173,6 +173,21 @@ def ridge_lambda(settings: dict, nucleus: str) -> float:
     return float(rl.get("by_nucleus", {}).get(nucleus, rl["value"]))
 
 
+def _reordered(built, names: list[str]) -> np.ndarray | None:
+    """A matrix already built with its own column order, put in the order ``names`` (columns it
+    lacks are indicator columns, i.e. 0); None when a lacking column is not an indicator, so that
+    the caller builds it again (and gets the error that case deserves)."""
+    nm, X, _ = built
+    pos = {n: k for k, n in enumerate(nm)}
+    missing = [n for n in names if n not in pos]
+    if any(term_of_column(n) is None or not term_of_column(n).indicators for n in missing):
+        return None
+    out = np.zeros(X.shape[:2] + (len(names),))
+    have = [k for k, n in enumerate(names) if n in pos]
+    out[:, :, have] = X[:, :, [pos[names[k]] for k in have]]
+    return out
+
+
 def collect(datasets: list[Dataset], nucleus: str, groups, ring_model: str, orders=(2, 1),
             names: list[str] | None = None, burial: dict | None = None, screen: dict | None = None,
             models: str = "mean"):
@@ -185,16 +200,22 @@ def collect(datasets: list[Dataset], nucleus: str, groups, ring_model: str, orde
     """
     bound = float((screen or {}).get("max_abs_secondary", {}).get(nucleus, np.inf))
     groups = tuple(groups)
+    first: list = []
     if names is None:
         seen: dict[str, int] = {}
         for d in datasets:
-            nm, _, _, _ = d.features.matrix(nucleus, None, groups, ring_model, orders, burial)
+            nm, _, X, sel = d.features.matrix(nucleus, None, groups, ring_model, orders, burial)
+            first.append((nm, X, sel))
             for n in nm:
                 seen.setdefault(n, len(seen))
         names = _canonical(seen)
     Xs, ys, ds, ws = [], [], [], []
     for i, d in enumerate(datasets):
-        _, _, X, sel = d.features.matrix(nucleus, names, groups, ring_model, orders, burial)
+        X = _reordered(first[i], names) if first else None
+        if X is None:
+            _, _, X, sel = d.features.matrix(nucleus, names, groups, ring_model, orders, burial)
+        else:
+            sel = first[i][2]
         y = d.measured[sel] - d.features.rc[:, sel].mean(axis=0)
         ok = np.isfinite(y) & (np.abs(y) <= bound)
         Xs.append((X[0] if models == "first" else X.mean(axis=0))[ok]), ys.append(y[ok])
