@@ -90,7 +90,7 @@ def test_own_torsion_order_can_differ_per_nucleus():
     from shiftcheck.predict.term_columns import conformation
     from shiftcheck.predict.terms import FeatureSettings
 
-    class SF:  # the two attributes the column builder reads, plus targets' residue index
+    class SF:  # the attributes the column builder reads: torsions, residue names, targets' residue index
         torsions = {"phi": np.array([[-60.0, -120.0]]), "psi": np.array([[-40.0, 130.0]]),
                     "chi1": np.array([[np.nan, 60.0]])}
 

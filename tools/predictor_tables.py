@@ -16,8 +16,8 @@ CAUSES = {
          "homodimers' partner chains are seen (table above) and change it by less than 0.001 ppm",
     "HA": "within 0.03 ppm; the remaining error is spread over proteins (no single outlier protein)",
     "CA": "dominated by a few proteins fitted from re-calculated models (worst listed); no correction for "
-          "sample conditions beyond temperature/pH; the two deuterated samples show no per-deuteron slope "
-          "outside the placebo range (table below), so deuterium is not shown to be a cause",
+          "sample conditions beyond temperature/pH; the two deuterated samples' per-deuteron slopes lie inside the "
+          "placebo range (table below): deuterium is not shown to be a cause, nor excluded",
     "CB": "as CA; in addition cysteine redox state is taken from the model's SG–SG distances, so a model "
           "without its disulfides mispredicts oxidised cysteines by ~13 ppm (the reason 6nbn uses its AMBER model)",
     "C": "carbonyl shifts depend on hydrogen bonds to O and on the following residue; both terms are "
@@ -49,8 +49,9 @@ def unmet(ds, results, full, GOALS, BACKBONE):
               "model being scored, see the tail table; the scorer uses per-residue-type factors instead, which "
               "depend on the sequence only); "
               "a correction for deuterium isotope shifts (2loy is perdeuterated, engrailed_hd 70 % 2H; the "
-              "per-protein offset absorbs their mean, and the slope per deuteron measured below stays inside "
-              "what residue-type errors alone give on protonated proteins, so a fitted correction would fit noise). "
+              "per-protein offset absorbs their mean; the slope per deuteron measured below lies inside what "
+              "residue-type errors alone give on protonated proteins, but its error bar also covers an effect of "
+              "the expected size, so the data can neither fit nor rule out a correction). "
               "Done in this round beside the predictor: a residue-level outlier rule (see the tail table and "
               "docs/outputs.md, residue flag); partner chains as surroundings of the through-space terms "
               "(table 'Partner chains as surroundings')."]
@@ -193,7 +194,8 @@ def tails(ds, settings, rm, loo, LAMS, NUCLEI):
 
 
 #: deuterated samples of the 23 (labelling as deposited, _Sample_component.Isotopic_labeling):
-#: bmr16833 '[U-13C; U-15N; U-2H; ILVFY-1H]' (Ile, Leu, Val, Phe, Tyr protonated), bmr15536
+#: bmr16833 '[U-13C; U-15N; U-2H; ILVFY-1H]' (read as whole Ile, Leu, Val, Phe, Tyr residues
+#: protonated; the tag does not say which of their hydrogens), bmr15536
 #: '[U-13C; U-15N; ~70%-2H]'; value = (deuterium fraction, residue types left protonated)
 DEUTERATED = {"2loy": (1.0, ("ILE", "LEU", "VAL", "PHE", "TYR")), "engrailed_hd": (0.7, ())}
 
@@ -239,7 +241,9 @@ def isotope(ds, results, full, settings):
              "Hansen 1988, Prog. NMR Spectrosc. 20:207); the per-protein offset absorbs their mean, a slope "
              "would remain. Slope b ± standard error of residual = a + b · n(2H) (tools/predictor_tables.py, "
              "isotope); for the protonated proteins the same fit with n = hydrogens on the carbon is a "
-             "placebo whose spread shows what residue-type errors alone give.", "",
+             "placebo whose spread shows what residue-type errors alone give. 2loy's label 'ILVFY-1H' is "
+             "read as whole Ile, Leu, Val, Phe and Tyr residues protonated (our reading of the tag; if only "
+             "their methyl or ring hydrogens are, the counts of those residues' CA and CB are too low).", "",
              "| structure (deuterated sample) | CA b ± se (N) | CB b ± se (N) |", "|---|---|---|"]
     for lab, v in rows.items():
         lines.append(f"| {lab} | " + " | ".join(
