@@ -17,7 +17,7 @@ demo: install
 	$(BIN)/shiftcheck demo -o demo_output --force
 
 test: install
-	$(BIN)/python -m pytest -q
+	$(BIN)/python -m pytest -q -n 2 --dist loadfile
 
 clean:
 	rm -rf $(VENV) demo_output

@@ -105,7 +105,7 @@ def load(pair_list=None, cache: bool = True, partners: str = "auto"):
             _warm(got[-1], settings)
         if f is not None:
             cdir.mkdir(parents=True, exist_ok=True)
-            tmp = f.with_suffix(".tmp")
+            tmp = f.with_suffix(f".{os.getpid()}.tmp")  # test workers may build the same pair at once
             tmp.write_bytes(pickle.dumps(got))
             os.replace(tmp, f)
         out += got
