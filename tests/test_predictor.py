@@ -66,6 +66,29 @@ def test_class_masked_neighbour_block_counts_only_that_class():
     assert np.allclose(f[0, 1, cols[:2]], [np.cos(np.radians(130.0)), np.sin(np.radians(130.0))])
 
 
+def test_residue_type_blocks_are_the_shared_basis_at_that_type_only():
+    # definition of the candidate (common practice, no source): one phi/psi block per residue
+    # type (Gly and Pro excluded, they have class blocks), equal to the order-k 2-D Fourier basis
+    # at residues of that type and zero elsewhere; the same 18 x 8 names whatever the sequence
+    tors = {"phi": np.array([[-60.0, -120.0, 75.0]]), "psi": np.array([[-40.0, 130.0, 20.0]])}
+    res = np.array(["ALA", "VAL", "GLY"])
+    names, f = conformation_features(tors, res, "CA", 2, 1, neighbours={}, chi1={}, type_order={"CA": 1})
+    plain, _ = conformation_features(tors, res, "CA", 2, 1, neighbours={}, chi1={})
+    typ = [n for n in names if n.startswith("TYPE:")]
+    assert len(typ) == 18 * 8 and names[:len(plain)] == plain
+    other, _ = conformation_features(tors, np.array(["TRP", "SER", "LYS"]), "CA", 2, 1, neighbours={},
+                                     chi1={}, type_order={"CA": 1})
+    assert other == names
+    basis = fourier_2d(tors["phi"][0], tors["psi"][0], 1)[1]
+    ala = [names.index(n) for n in typ if n.startswith("TYPE:ALA:")]
+    val = [names.index(n) for n in typ if n.startswith("TYPE:VAL:")]
+    assert np.allclose(f[0, 0, ala], basis[0]) and np.all(f[0, 1:, ala] == 0)
+    assert np.allclose(f[0, 1, val], basis[1]) and np.all(f[0, [0, 2]][:, val] == 0)
+    assert np.all(f[0, 2, [names.index(n) for n in typ]] == 0)      # Gly: no type block
+    h_names, _ = conformation_features(tors, res, "H", 2, 1, neighbours={}, chi1={}, type_order={"CA": 1})
+    assert not any(n.startswith("TYPE:") for n in h_names)
+
+
 def test_residue_class_order_can_differ_per_nucleus():
     # definition of the setting (common practice, no source): an int is one order for every
     # class; a dict names orders per nucleus class with "default" for the rest. A 2-D Fourier

@@ -69,3 +69,22 @@ def test_hbond_basis_partitions_each_contact(ubq):
         assert any_sum[0, k] == pytest.approx(part[sel].sum(), abs=1e-9)
         assert lin_sum[0, k] == pytest.approx((part * c["weight"])[sel].sum(), abs=1e-9)
     assert any_sum[0].max() >= 1   # ubiquitin's amide H do make contacts
+
+
+def test_hbond_basis_of_backbone_n_is_that_of_its_amide_h(ubq):
+    # definition of the candidate (common practice, no source): a backbone N takes the columns of
+    # its own residue's amide H; Pro (no amide H) and other heavy atoms get zeros
+    names = np.asarray(ubq.atom_name).astype(str)
+    res = np.asarray(ubq.atom_res)
+    n_at = np.flatnonzero(names == "N")
+    own_h = ubq.indices(res[n_at], "H")
+    f_n = basis_features(ubq, n_at)
+    f_h = basis_features(ubq, np.where(own_h >= 0, own_h, -1))
+    has = own_h >= 0
+    assert has.sum() > 60 and (~has).sum() >= 3          # ubiquitin has Pro19, Pro37, Pro38
+    for k in f_n:
+        assert np.array_equal(f_n[k][:, has], f_h[k][:, has])
+        assert np.all(f_n[k][:, ~has] == 0)
+    assert max(v.max() for v in f_n.values()) > 0
+    ca = basis_features(ubq, np.flatnonzero(names == "CA"))
+    assert all(np.all(v == 0) for v in ca.values())

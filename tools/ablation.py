@@ -101,6 +101,8 @@ VARIANTS = [
     ("+ neighbour residue types for H, HA, CA, C (not kept)", _add_group("neighbour"), "mean"),
     ("+ neighbour ψ(i−1), ψ(i+1) for HA (not kept)", _add_neigh({"HA": [["psi", -1, 2], ["psi", 1, 1]]}), "mean"),
     ("+ φ/ψ(i+1) for HA (not kept)", _add_neigh({"HA": [["phi_psi", 1, 1]]}), "mean"),
+    ("+ a φ/ψ block (order 1) per residue type, 18 types (not kept)", _set_conf("type_order", ALL6), "mean"),
+    ("+ fitted H-bond basis for N, from its own amide H (not kept)", _add_group("hbond_basis", ("N",)), "mean"),
     ("fixed ridge λ = 100 (no CV)", lambda s: s.__setitem__("ridge_lambda", {"value": 100.0}), "mean"),
 ]
 

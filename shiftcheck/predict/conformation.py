@@ -62,6 +62,10 @@ LEGACY_NEIGHBOURS = {"H": [["psi", -1, 2]], "N": [["psi", -1, 2]], "C": [["phi",
 #: χ1 orders used when a parameter file names none.
 LEGACY_CHI1 = {"CB": 1}
 _TORSIONS = ("phi", "psi", "phi_psi", "chi1")
+#: residue types with their own φ/ψ block when ``type_order`` names the nucleus class (Gly and Pro
+#: have their class blocks)
+_TYPES = ("ALA", "ARG", "ASN", "ASP", "CYS", "GLN", "GLU", "HIS", "ILE", "LEU", "LYS", "MET",
+          "PHE", "SER", "THR", "TRP", "TYR", "VAL")
 
 
 def _shifted(a: np.ndarray, shift: int) -> np.ndarray:
@@ -120,7 +124,7 @@ def class_order_for(class_order: int | dict, nucleus: str) -> int:
 
 def conformation_features(torsions: dict[str, np.ndarray], res_name: np.ndarray, nucleus: str,
                           order: int = 2, class_order: int | dict = 1, neighbours: dict | None = None,
-                          chi1: dict | None = None) -> tuple[list[str], np.ndarray]:
+                          chi1: dict | None = None, type_order: dict | None = None) -> tuple[list[str], np.ndarray]:
     """Per-residue conformation features for one nucleus class, (n_models, n_res, n_features).
 
     Parameters
@@ -140,6 +144,10 @@ def conformation_features(torsions: dict[str, np.ndarray], res_name: np.ndarray,
         :func:`neighbour_block`); default :data:`LEGACY_NEIGHBOURS`.
     chi1 : dict, optional
         Nucleus class -> Fourier order of χ1 of residue i; default :data:`LEGACY_CHI1`.
+    type_order : dict, optional
+        Nucleus class -> Fourier order of a φ/ψ block of its own for each residue type of
+        :data:`_TYPES` (zero at residues of other types); default none. Tried for the backbone
+        classes and not kept (docs/validation.md, ablation table).
     """
     phi, psi = torsions["phi"], torsions["psi"]
     names, shared = fourier_2d(phi, psi, order)
@@ -158,6 +166,13 @@ def conformation_features(torsions: dict[str, np.ndarray], res_name: np.ndarray,
             n, f = [f"{spec[3]}@{x}" for x in n], f * mask[None, :, None]
         blocks.append(n)
         feats.append(f)
+    k_type = (type_order or {}).get(nucleus)
+    if k_type:
+        tn, tf = fourier_2d(phi, psi, int(k_type))
+        rn = np.asarray(res_name).astype(str)
+        for aa in _TYPES:
+            blocks.append([f"TYPE:{aa}:{n}" for n in tn])
+            feats.append(tf * (rn == aa)[None, :, None])
     k_chi = (LEGACY_CHI1 if chi1 is None else chi1).get(nucleus)
     if k_chi and "chi1" in torsions:
         n, f = fourier_1d(torsions["chi1"], int(k_chi), "chi1_")

@@ -1,4 +1,4 @@
-"""Hydrogen-bond basis with fitted distance and angle dependence, for amide H and HA.
+"""Hydrogen-bond basis with fitted distance and angle dependence, for amide H and HA (and backbone N).
 
 :mod:`shiftcheck.predict.hbond` fixes the shape of the H···O term (r⁻³, cos² angle weight) and
 fits one coefficient. Here the shape itself is fitted: each proton···O contact within the cutoff
@@ -21,7 +21,8 @@ __all__ = ["basis_features"]
 
 
 def basis_features(ens, targets: np.ndarray) -> dict[str, np.ndarray]:
-    """{name: (n_models, n_targets)} for target atoms (H, HA, HA2, HA3; 0 for other atoms).
+    """{name: (n_models, n_targets)} for target atoms (H, HA, HA2, HA3; backbone N gets the columns
+    of its residue's amide H, a candidate for N that was tried and not kept; 0 for other atoms).
 
     Names ``hbx:bb_r2.2_any``, ``hbx:sc_r2.6_lin`` ...: acceptor kind, distance centre, angle factor.
     """
@@ -35,6 +36,12 @@ def basis_features(ens, targets: np.ndarray) -> dict[str, np.ndarray]:
     slot = np.full(ens.n_atoms + 1, -1, dtype=np.int64)
     slot[c["donors"]] = np.arange(nd)
     t_slot = slot[np.where(targets >= 0, targets, ens.n_atoms)]
+    have = targets >= 0
+    t_name = np.where(have, np.asarray(ens.atom_name).astype(str)[np.maximum(targets, 0)], "")
+    is_n = t_name == "N"
+    if is_n.any():      # backbone N: the contacts of the residue's own amide H
+        own_h = ens.indices(np.asarray(ens.atom_res)[targets[is_n]], "H")
+        t_slot[is_n] = slot[np.where(own_h >= 0, own_h, ens.n_atoms)]
     key = c["model"] * nd + c["slot_h"]
     dist = np.nan_to_num(c["dist"], nan=np.inf)
     ang = {"any": np.ones_like(dist), "lin": c["weight"]}

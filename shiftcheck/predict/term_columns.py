@@ -93,7 +93,8 @@ def conformation(sf, nucleus, sel, settings) -> dict[str, np.ndarray]:
     conf = settings.conformation
     cn, cf = conformation_features(sf.torsions, sf.ens.res_name, nucleus,
                                    class_order_for(conf.get("order", 2), nucleus), conf.get("class_order", 1),
-                                   conf.get("neighbours"), conf.get("chi1"))
+                                   conf.get("neighbours"), conf.get("chi1"),
+                                   conf.get("type_order"))
     ri = sf.targets.res_index[sel]
     return {f"conf:{n}": cf[:, ri, k] for k, n in enumerate(cn)}
 
