@@ -29,7 +29,8 @@ from scipy.stats import spearmanr
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from plausible_decoys import TRAINING, _ca, _read, load_native  # noqa: E402
-from tmscore import lddt_ca  # noqa: E402
+from ordered_core import ordered_residues  # noqa: E402
+from tmscore import lddt_ca, tm_score  # noqa: E402
 from validate_scoring import _table, write_section  # noqa: E402
 
 __all__ = ["fold_run", "render", "main"]
@@ -76,6 +77,16 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
         full[f0:f0 + e.n_residues] = _ca(e)
         lddt.append(lddt_ca(full, ca0))
     lddt = np.array(lddt)
+    core, _ = ordered_residues(root, folder, shift_file, native)
+    core &= np.isfinite(ca0).all(1)
+    tm_core = []
+    for r, e in zip(recs, ens):
+        full = np.full_like(ca0, np.nan)
+        f0 = int(r.get("first_residue", 0))
+        full[f0:f0 + e.n_residues] = _ca(e)
+        sel = core & np.isfinite(full).all(1)
+        tm_core.append(tm_score(full[sel], ca0[sel], length=int(core.sum())))
+    tm_core = np.array(tm_core)
     # per-nucleus contributions: sum of the class's robust losses / number of compared atoms
     z = res.z
     q = np.where(np.isfinite(z), huber_q(np.nan_to_num(z), float(scoring_constants()["huber_h"]["value"])), np.nan)
@@ -111,6 +122,8 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
            "rho_near": _rho(scores, tm, ~thr),
            "rho_lddt": _rho(scores, lddt, np.ones(len(recs), bool)),
            "rho_lddt_near": _rho(scores, lddt, ~thr),
+           "rho_core": _rho(scores, tm_core, np.ones(len(recs), bool)),
+           "rho_core_near": _rho(scores, tm_core, ~thr), "core_fraction": float(core.mean()),
            "max_clash": max(g["clashes_per_1000"] for g in geo.values()),
            "max_severe": max(g["severe_pairs"] for g in geo.values()),
            "n_warned": sum(bool(g["bad"]) for g in geo.values()),
@@ -131,6 +144,10 @@ def _mean(rows, key) -> str:
     v = np.array([r[key] for r in rows], float)
     v = v[np.isfinite(v)]
     return f"{v.mean():.2f} (median {np.median(v):.2f}, min {v.min():.2f}, {v.size} proteins)" if v.size else "n/a"
+
+
+def _core(rows) -> str:
+    return f"{100 * np.mean([r['core_fraction'] for r in rows]):.0f} %"
 
 
 def diagnose(rows: list[dict]) -> list[str]:
@@ -242,7 +259,12 @@ def render(rows: list[dict], missing: list[str], command: str, wall: float | Non
           f"* threaded wrong folds all worse than every other model: {tw} of {nt} proteins",
           f"* diagnostic, against a local similarity instead (CA lDDT, Mariani et al. 2013): mean rho "
           f"{_mean(rows, 'rho_lddt')} over all models, {_mean(rows, 'rho_lddt_near')} without the "
-          "threaded ones"]
+          "threaded ones",
+          f"* diagnostic, TM-score over the ordered core only (residues with angular order parameters "
+          f"S(phi), S(psi) >= 0.9 in the protein's NMR ensemble, Hyberts et al. 1992; tools/ordered_core.py; "
+          f"every residue where there is no ensemble; on average {_core(rows)} of the chain), so that "
+          f"disordered termini and loops do not set the TM-score: mean rho {_mean(rows, 'rho_core')} over "
+          f"all models, {_mean(rows, 'rho_core_near')} without the threaded ones"]
     if missing:
         L += ["", "No decoys generated for: " + ", ".join(missing) + "."]
     L += [""] + diagnose(rows)
