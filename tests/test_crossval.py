@@ -58,3 +58,34 @@ def test_tail_scale_recovers_normal_sigma():
     g = np.repeat(np.arange(4), r.size // 4)
     assert abs(tail_scale(r, np.zeros_like(r), g, 0.9973) - 0.7) < 0.02
     assert abs(pooled_error(r, np.zeros_like(r), np.ones_like(r), g) - 0.7) < 0.01
+
+
+def test_block_factors_equal_an_augmented_least_squares_solve():
+    # Ridge with per-column strengths lam * f_j on standardised columns is least squares on the
+    # rows augmented by sqrt(lam * f_j) e_j (textbook identity, common practice, no source); solved
+    # here independently with numpy.linalg.lstsq, no referencing offsets (one dataset).
+    from shiftcheck.predict.crossval import column_blocks
+    rng = np.random.default_rng(5)
+    names = ["const", "res:ALA", "conf:phi_cos1", "conf:phi_cos1*psi_sin1", "conf:GLY:phi_cos1",
+             "conf:prev:psi_cos1", "conf:psi_prev_cos1", "conf:TYPE:ALA:phi_cos1", "hb:n_hb", "ef:ef_bb"]
+    assert list(column_blocks(names)) == ["const", "residue", "phi_psi", "phi_psi", "class",
+                                          "neighbour_torsion", "neighbour_torsion", "type", "hbond", "efield"]
+    n = 300
+    X = np.column_stack([np.ones(n), rng.normal(size=(n, len(names) - 1)) * rng.uniform(0.5, 3, len(names) - 1)])
+    y = X @ rng.normal(size=len(names)) + rng.normal(scale=0.5, size=n)
+    d = np.zeros(n, int)
+    w = np.ones(n)
+    bf = {"phi_psi": 10.0, "class": 0.1, "hbond": 100.0}
+    lam = 30.0
+    got, _ = GroupedRows(names, X, y, d, w, d, bf).fit(lam, iterations=0)
+    sd = X.std(axis=0)
+    sd[0] = 1.0
+    f = np.array([0.0, 1, 10, 10, 0.1, 1, 1, 1, 100, 1])
+    Z = X / sd
+    A = np.vstack([Z, np.diag(np.sqrt(lam * f + 1e-10))])
+    ref = np.linalg.lstsq(A, np.r_[y, np.zeros(len(names))], rcond=None)[0] / sd
+    assert np.allclose(got, ref, atol=1e-6)
+    # no factors is the plain fit; other factors change it
+    plain = GroupedRows(names, X, y, d, w, d)
+    assert np.allclose(plain.with_block_factors({}).fit(lam, 0)[0], plain.fit(lam, 0)[0])
+    assert not np.allclose(plain.with_block_factors(bf).fit(lam, 0)[0], plain.fit(lam, 0)[0])

@@ -35,7 +35,7 @@ import realdata_pairs as rp  # noqa: E402
 import validate_predictor as vp  # noqa: E402
 from shiftcheck.predict.calibrate import collect, load_settings  # noqa: E402
 from shiftcheck.predict.conformation import class_order_for  # noqa: E402
-from shiftcheck.predict.crossval import GroupedRows  # noqa: E402
+from shiftcheck.predict.crossval import GroupedRows, block_factors_for  # noqa: E402
 
 NUCLEI = ["N", "C", "CA", "H", "HA", "CB"]
 
@@ -112,7 +112,7 @@ def search(nuclei, out):
     def loo17(s, nuc):
         names, X, y, d, w = collect(ds, nuc, s["groups"][nuc], rm, s["conformation"], burial=s.get("burial"),
                                     screen=s.get("target_screen"), models="mean")
-        rows = GroupedRows(names, X, y, d, w, np.array([gid[ds[k].group] for k in d]))
+        rows = GroupedRows(names, X, y, d, w, np.array([gid[ds[k].group] for k in d]), block_factors_for(s, nuc))
         return rows.subset(np.isin(rows.group_of, train_ids)).loo_error(float(lams[nuc]), it)
 
     chosen = copy.deepcopy(settings)

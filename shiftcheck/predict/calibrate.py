@@ -274,7 +274,7 @@ def lambda_grid(settings: dict, nucleus: str) -> list[float]:
 def calibrate(datasets: list[Dataset], settings: dict | None = None, description: str = "",
               ring_models=RING_MODELS) -> dict:
     """Fit all coefficients and return a parameter dict (see :mod:`shiftcheck.predict.params`)."""
-    from .crossval import GroupedRows, choose_lambda, pooled_error
+    from .crossval import GroupedRows, block_factors_for, choose_lambda, pooled_error
     from .expected_error import residue_error_block, residue_rule_block
 
     settings = settings or load_settings()
@@ -292,7 +292,7 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
             if y.size < len(names) // 4 + 2:
                 continue
             group_of = np.array([gid[datasets[k].group] for k in d])
-            rows = GroupedRows(names, X, y, d, w, group_of)
+            rows = GroupedRows(names, X, y, d, w, group_of, block_factors_for(settings, nuc))
             grid = lambda_grid(settings, nuc)
             if len(groups_all) > 2 and len(grid) > 1:
                 lam, _ = choose_lambda(rows, grid, it)

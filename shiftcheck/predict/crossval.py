@@ -12,10 +12,55 @@ inside ``shiftcheck calibrate``.
 """
 from __future__ import annotations
 
+import copy
+import re
+
 import numpy as np
 
-__all__ = ["GroupedRows", "choose_lambda", "centred_residuals", "pooled_error", "tail_scale",
+__all__ = ["GroupedRows", "column_blocks", "penalty_factors", "block_factors_for", "choose_lambda", "centred_residuals", "pooled_error", "tail_scale",
            "residue_factors", "choose_residue_shrinkage", "heldout_sigma"]
+
+
+_OWN = re.compile(r"^conf:(phi|psi)_(cos|sin)\d+(\*psi_(cos|sin)\d+)?$")
+_PREFIX_BLOCK = {"res": "residue", "prev": "neighbour", "next": "neighbour", "hb": "hbond", "hbx": "hbond",
+                 "ring": "ring", "aniso": "anisotropy", "bur": "burial", "sc": "sidechain", "ef": "efield"}
+
+
+def column_blocks(names) -> np.ndarray:
+    """Block of every design-matrix column, for block-wise ridge strengths: 'const'; 'residue'
+    (residue-type offsets); 'neighbour' (neighbour residue types); 'phi_psi' (residue i's own φ/ψ
+    basis); 'class' (Gly/Pro/β-branched blocks); 'neighbour_torsion' (torsions of other residues);
+    'chi1'; 'type' (per-residue-type φ/ψ blocks); 'hbond', 'ring', 'anisotropy', 'burial',
+    'sidechain', 'efield'."""
+    out = []
+    for n in names:
+        head = n.split(":", 1)[0]
+        if n == "const":
+            out.append("const")
+        elif head != "conf":
+            out.append(_PREFIX_BLOCK.get(head, head))
+        elif _OWN.match(n):
+            out.append("phi_psi")
+        elif n.startswith("conf:TYPE:"):
+            out.append("type")
+        elif n.startswith("conf:chi1_"):
+            out.append("chi1")
+        elif n.split(":")[1] in ("GLY", "PRO", "BETA", "OTHER"):
+            out.append("class")
+        else:
+            out.append("neighbour_torsion")
+    return np.array(out, dtype=object)
+
+
+def block_factors_for(settings: dict, nucleus: str) -> dict | None:
+    """The ``ridge_lambda.block_factors`` entry of one nucleus class (None: 1 for every block)."""
+    return ((settings.get("ridge_lambda") or {}).get("block_factors") or {}).get(nucleus)
+
+
+def penalty_factors(names, block_factors: dict | None) -> np.ndarray:
+    """Per-column multiplier of the ridge strength: ``block_factors[block]`` (default 1)."""
+    bf = block_factors or {}
+    return np.array([float(bf.get(b, 1.0)) for b in column_blocks(names)])
 
 
 class GroupedRows:
@@ -26,12 +71,16 @@ class GroupedRows:
     names, X, y, d, w : as returned by :func:`shiftcheck.predict.calibrate.collect`
     group_of : np.ndarray (N,)
         Leave-out unit (protein / shift list id) of every row.
+    block_factors : dict, optional
+        Block -> multiplier of the ridge strength for that block's columns (:func:`column_blocks`;
+        the setting ``ridge_lambda.block_factors`` of one nucleus class); default 1 everywhere.
     """
 
-    def __init__(self, names, X, y, d, w, group_of):
+    def __init__(self, names, X, y, d, w, group_of, block_factors: dict | None = None):
         self.names, self.X, self.y, self.d, self.w = list(names), X, y, d, w
         self.group_of = np.asarray(group_of)
         self.free = np.array([n == "const" for n in self.names])
+        self.pen = penalty_factors(self.names, block_factors)
         self._index()
         self.G, self.b, self.s, self.W = {}, {}, {}, {}
         for k, r in self.rows.items():
@@ -73,7 +122,7 @@ class GroupedRows:
         sd = np.sqrt(np.clip(var, 0.0, None))
         sd = np.where(sd > 1e-12, sd, 1.0)
         A = G / np.outer(sd, sd)
-        A[np.diag_indices_from(A)] += np.where(self.free, 0.0, lam) + 1e-10
+        A[np.diag_indices_from(A)] += np.where(self.free, 0.0, lam * self.pen) + 1e-10
         return np.linalg.solve(A, b / sd) / sd
 
     def _medians(self, res: np.ndarray) -> np.ndarray:
@@ -116,10 +165,16 @@ class GroupedRows:
         pred = sub.loo(lam, iterations)
         return pooled_error(sub.y, pred, sub.w, sub.group_of)
 
+    def with_block_factors(self, block_factors: dict | None) -> "GroupedRows":
+        """The same rows and sums with other block-wise ridge strengths (for their selection)."""
+        new = copy.copy(self)
+        new.pen = penalty_factors(self.names, block_factors)
+        return new
+
     def subset(self, mask: np.ndarray) -> "GroupedRows":
         """The rows of ``mask`` (whole datasets), reusing their sums (for nested selection)."""
         new = object.__new__(GroupedRows)
-        new.names, new.free = self.names, self.free
+        new.names, new.free, new.pen = self.names, self.free, self.pen
         new.X, new.y, new.d, new.w = self.X[mask], self.y[mask], self.d[mask], self.w[mask]
         new.group_of = self.group_of[mask]
         new.group = self.group
