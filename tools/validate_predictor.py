@@ -134,7 +134,8 @@ def main() -> int:
              "the one the shipped fit chose by leave-one-protein-out CV on the grid of calibration.json "
              "(for the fixed split it is chosen again by CV within the 17 training proteins).", "",
              "Structures used for fitting (see the comments in tools/realdata_pairs.tsv): the first 13 "
-             "proteins with their NMR ensemble and X-ray structure (hsr50: two single models); the "
+             "proteins with their NMR ensemble and X-ray structure (hsr50: two single models; why both: "
+             "table 'Which structures to fit on'); the "
              "nef_set proteins with the deposited PDB ensemble where the folder has one (2jr2, 2k2e, "
              "2kcu, 2png), else the 5-model re-calculation distributed as the folder's .cif.gz file ( 2k07, 2kko, 2ko1, 2loy, "
              "2luz), except 6nbn, whose AMBER re-calculation is the only model with its disulfides "
@@ -204,6 +205,7 @@ def main() -> int:
     lines += _fixed_split(ds, settings, default_rm, results, full)
     lines += _ablation(ds, settings, default_rm)
     lines += _partners(ds, settings, default_rm)
+    lines += tables.fit_structures(ds, settings, default_rm, BACKBONE)
     lines += tables.tails(ds, settings, default_rm, loo, LAMS, NUCLEI)
     lines += tables.unmet(ds, results, full, GOALS, BACKBONE)
     lines += tables.isotope(ds, results, full, settings)
