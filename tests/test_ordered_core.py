@@ -29,8 +29,9 @@ def test_angular_order_matches_the_mean_resultant_length():
 
 
 def test_ubiquitin_core_leaves_out_the_flexible_c_terminus(realdata):
-    # public data: ubiquitin's C-terminal residues 72-76 are flexible in solution (its NMR
-    # ensemble 1D3Z; common knowledge of ubiquitin, from memory); the native is the X-ray 1ubq
+    # public data: ubiquitin's C-terminal tail (about residues 72-76) is flexible in solution
+    # (from memory); its NMR ensemble 1D3Z must leave out at least the last two residues and keep
+    # most of the folded residues 2-70; the native is the X-ray 1ubq
     from plausible_decoys import load_native
     native = load_native(realdata, "ubiquitin")
     mask, src = ordered_residues(realdata, "ubiquitin", "bmr17769.str", native)

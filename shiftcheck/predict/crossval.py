@@ -17,8 +17,9 @@ import re
 
 import numpy as np
 
-__all__ = ["GroupedRows", "column_blocks", "penalty_factors", "block_factors_for", "choose_lambda", "centred_residuals", "pooled_error", "tail_scale",
-           "residue_factors", "choose_residue_shrinkage", "heldout_sigma"]
+__all__ = ["GroupedRows", "column_blocks", "penalty_factors", "block_factors_for", "choose_lambda",
+           "centred_residuals", "pooled_error", "tail_scale", "residue_factors", "choose_residue_shrinkage",
+           "heldout_sigma"]
 
 
 _OWN = re.compile(r"^conf:(phi|psi)_(cos|sin)\d+(\*psi_(cos|sin)\d+)?$")
