@@ -18,7 +18,7 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE))
 
 from shiftcheck.predict.calibrate import collect, lambda_grid  # noqa: E402
-from shiftcheck.predict.crossval import GroupedRows, block_factors_for, choose_lambda  # noqa: E402
+from shiftcheck.predict.crossval import GroupedRows, block_factors_for, choose_lambda, huber_for  # noqa: E402
 
 BACKBONE = ("H", "HA", "CA", "CB", "C", "N")
 ALL6 = {n: 1 for n in BACKBONE}
@@ -111,6 +111,9 @@ VARIANTS = [
     ("+ block-wise ridge strengths (tools/penalty_search.py: N residue offsets, class blocks ×3; C own φ/ψ, "
      "class blocks ×3; CA class blocks ×3, own φ/ψ ×1/3; not kept)",
      lambda s: s["ridge_lambda"].__setitem__("block_factors", PENALTY_SEARCH), "mean"),
+    ("− Huber-robust fit for C (squared loss everywhere; new)", lambda s: s.pop("robust", None), "mean"),
+    ("+ Huber-robust fit for H, HA, CA, CB, N as well (not kept)",
+     lambda s: s.__setitem__("robust", {**s.get("robust", {}), "huber_c": {n: 1.345 for n in BACKBONE}}), "mean"),
     ("fixed ridge λ = 100 (no CV)", lambda s: s.__setitem__("ridge_lambda", {"value": 100.0}), "mean"),
 ]
 
@@ -123,7 +126,8 @@ def loo_rmsd(ds, settings, nuc, ring_model, models="mean", lam=None):
     names, X, y, d, w = collect(ds, nuc, settings["groups"][nuc], ring_model, settings["conformation"],
                                 burial=settings.get("burial"), screen=settings.get("target_screen"),
                                 models=models)
-    rows = GroupedRows(names, X, y, d, w, np.array([gid[ds[k].group] for k in d]), block_factors_for(settings, nuc))
+    rows = GroupedRows(names, X, y, d, w, np.array([gid[ds[k].group] for k in d]), block_factors_for(settings, nuc),
+                       huber_for(settings, nuc))
     it = int(settings["referencing_iterations"]["value"])
     if lam is None:
         lam, errs = choose_lambda(rows, lambda_grid(settings, nuc), it)

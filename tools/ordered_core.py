@@ -6,6 +6,10 @@ S(θ) = |(1/M) Σ_m exp(iθ_m)| over the M models (Hyberts, Goldberg, Havel & Wa
 memory). The NMR ensemble is the multi-model structure of the protein's shift list in
 tools/realdata_pairs.tsv with the most models; residues are matched to the native through the shift
 list's sequence (shiftcheck.structure.mapping). Proteins without an ensemble count every residue.
+
+:func:`ensemble_spread` gives the same ensemble's spread about the native: the median TM-score
+(tools/tmscore.py) of its models to the native over the residues both have, the native itself
+left out; a decoy closer to the native than that is as close as the deposited models are.
 """
 from __future__ import annotations
 
@@ -14,7 +18,7 @@ from pathlib import Path
 
 import numpy as np
 
-__all__ = ["angular_order", "ordered_residues"]
+__all__ = ["angular_order", "ordered_residues", "ensemble_spread"]
 
 HERE = Path(__file__).resolve().parent
 THRESHOLD = 0.9
@@ -63,3 +67,28 @@ def ordered_residues(root: Path, folder: str, shift_file: str, native) -> tuple[
         k = to_ens.get(s)
         mask[j] = k is not None and bool(ok[k])
     return mask, f"{ens.n_models}-model ensemble"
+
+
+def ensemble_spread(root: Path, folder: str, shift_file: str, native) -> tuple[float, int]:
+    """(median TM-score of the NMR ensemble's models to the native, number of models compared);
+    (NaN, 0) without an ensemble. Models identical to the native (TM > 0.999) are left out."""
+    from shiftcheck.io.shift_formats import read_shifts
+    from shiftcheck.structure.mapping import map_sequence
+    from tmscore import tm_score
+
+    ens = _ensemble(root, f"{folder}/{shift_file}")
+    if ens is None:
+        return float("nan"), 0
+    sl = read_shifts(root / folder / shift_file)
+    to_nat, to_ens = map_sequence(sl, native).seq_to_res, map_sequence(sl, ens).seq_to_res
+    pairs = [(j, to_ens[s]) for s, j in to_nat.items() if s in to_ens]
+    nat_ca = native.xyz(np.array([j for j, _ in pairs]), "CA")[0]
+    ens_ca = ens.xyz(np.array([k for _, k in pairs]), "CA")
+    tms = []
+    for m in range(ens.n_models):
+        ok = np.isfinite(nat_ca).all(1) & np.isfinite(ens_ca[m]).all(1)
+        if ok.sum() >= 3:
+            t = tm_score(ens_ca[m][ok], nat_ca[ok], length=int(np.isfinite(nat_ca).all(1).sum()))
+            if t <= 0.999:
+                tms.append(t)
+    return (float(np.median(tms)), len(tms)) if tms else (float("nan"), 0)

@@ -29,8 +29,8 @@ from scipy.stats import spearmanr
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from plausible_decoys import TRAINING, _ca, _read, load_native  # noqa: E402
-from ordered_core import ordered_residues  # noqa: E402
-from tmscore import lddt_ca, tm_score  # noqa: E402
+from ordered_core import ensemble_spread, ordered_residues  # noqa: E402
+from tmscore import gdt_ts, lddt_ca, tm_score  # noqa: E402
 from validate_scoring import _table, write_section  # noqa: E402
 
 __all__ = ["fold_run", "render", "main"]
@@ -70,13 +70,17 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
     tm = np.array([r["tm_score"] for r in recs])
     kinds = np.array([r["kind"] for r in recs])
     ca0 = _ca(native)
-    lddt = []
+    lddt, gdt = [], []
+    n_nat = int(np.isfinite(ca0).all(1).sum())
     for r, e in zip(recs, ens):
         full = np.full_like(ca0, np.nan)
         f0 = int(r.get("first_residue", 0))
         full[f0:f0 + e.n_residues] = _ca(e)
         lddt.append(lddt_ca(full, ca0))
-    lddt = np.array(lddt)
+        both = np.isfinite(full).all(1) & np.isfinite(ca0).all(1)
+        gdt.append(gdt_ts(full[both], ca0[both], length=n_nat))
+    lddt, gdt = np.array(lddt), np.array(gdt)
+    spread, n_spread = ensemble_spread(root, folder, shift_file, native)
     core, _ = ordered_residues(root, folder, shift_file, native)
     core &= np.isfinite(ca0).all(1)
     tm_core = []
@@ -95,6 +99,7 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
     contrib = {c: (np.nansum(q[:, nuc == c], axis=1) / n_valid) for c in sorted(set(nuc))}
     row_of = {n: i for i, n in enumerate(names)}
     details = [{"file": r["file"], "kind": r["kind"], "tm": r["tm_score"], "lddt": round(float(lddt[i]), 4),
+                "gdt": round(float(gdt[i]), 4),
                 "score": sc[r["file"]],
                 "contrib": {c: round(float(v[row_of[r["file"]]]), 5) for c, v in contrib.items()},
                 "n_atoms": {c: int(np.isfinite(q[row_of[r["file"]], nuc == c]).sum()) for c in contrib}}
@@ -122,6 +127,11 @@ def fold_run(root: Path, decoys: Path, folder: str, n_boot: int = 200) -> dict |
            "rho_near": _rho(scores, tm, ~thr),
            "rho_lddt": _rho(scores, lddt, np.ones(len(recs), bool)),
            "rho_lddt_near": _rho(scores, lddt, ~thr),
+           "rho_gdt": _rho(scores, gdt, np.ones(len(recs), bool)), "rho_gdt_near": _rho(scores, gdt, ~thr),
+           "ens_tm": spread, "ens_models": n_spread,
+           "n_within": int(np.sum(~nat & (tm >= spread))) if np.isfinite(spread) else 0,
+           "rank_outside": (int(1 + np.sum((scores < sc["native_min.pdb"]) & ~nat & (tm < spread)))
+                            if np.isfinite(spread) else int(rk["native_min.pdb"])),
            "rho_core": _rho(scores, tm_core, np.ones(len(recs), bool)),
            "rho_core_near": _rho(scores, tm_core, ~thr), "core_fraction": float(core.mean()),
            "max_clash": max(g["clashes_per_1000"] for g in geo.values()),
@@ -148,6 +158,23 @@ def _mean(rows, key) -> str:
 
 def _core(rows) -> str:
     return f"{100 * np.mean([r['core_fraction'] for r in rows]):.0f} %"
+
+
+def _spread_line(rows) -> str:
+    """Summary of the NMR ensembles' own spread about the native and the native's rank against
+    the decoys outside it."""
+    have = [r for r in rows if r.get("ens_models", 0) > 0]
+    if not have:
+        return "* no NMR ensemble to measure the native's precision"
+    ens = np.array([r["ens_tm"] for r in have])
+    first = sum(r["rank_outside"] == 1 for r in rows)
+    return (f"* diagnostic, the deposited NMR ensembles' spread about the native ({len(have)} proteins): "
+            f"median TM of their models to the native {np.median(ens):.2f} (range {ens.min():.2f}-"
+            f"{ens.max():.2f}); {sum(r['n_within'] for r in have)} decoys are at least that close to "
+            f"their native, i.e. as close as the deposited models are. Counting only the decoys "
+            f"further from the native than that (every decoy where there is no ensemble), the native "
+            f"ranks first for {first} of {len(rows)} proteins (not the acceptance figure, which counts "
+            "every decoy)")
 
 
 def diagnose(rows: list[dict]) -> list[str]:
@@ -229,7 +256,11 @@ def render(rows: list[dict], missing: list[str], command: str, wall: float | Non
          "over native + torsion + ladder (no threaded models), and per family (native + that "
          "family's models). lDDT (summary only): CA-only local distance difference test to the native (Mariani et "
          "al. 2013; tools/tmscore.py), superposition-free, so it measures local rather than global "
-         "agreement; shown as a diagnostic, the goal is stated with TM. Best group: the models the paired bootstrap over residues cannot separate "
+         "agreement; shown as a diagnostic, the goal is stated with TM; GDT_TS (summary only; Zemla 2003; "
+         "tools/tmscore.py) likewise. Ensemble TM: median TM-score of the protein's deposited NMR "
+         "models to the native (tools/ordered_core.py; the native itself left out; nan without an "
+         "ensemble), the precision of the structure the shifts were assigned on; decoys within: "
+         "decoys (any family) at least that close to the native. Best group: the models the paired bootstrap over residues cannot separate "
          "from the best one (docs/outputs.md). Thread worst: every threaded model scores worse than every other model. "
          "Geometry columns: the worst model's clashes per 1000 heavy atoms and pairs below 2 Å, "
          "models warned, candidates rejected by the geometry rule.", ""]
@@ -241,6 +272,7 @@ def render(rows: list[dict], missing: list[str], command: str, wall: float | Non
                        ("native_score", "native score", ".3f"),
                        ("best_decoy", "best decoy", ".3f"), ("best_decoy_tm", "its TM", ".2f"),
                        ("best_thread", "best threaded", ".3f"),
+                       ("ens_tm", "ensemble TM", ".2f"), ("n_within", "decoys within", ""),
                        ("rho", "rho all", ".2f"), ("rho_near", "rho no-thread", ".2f"),
                        ("rho_ladder", "rho ladder", ".2f"), ("rho_torsion", "rho torsion", ".2f"),
                        ("thread_worst", "thread worst", ""),
@@ -264,7 +296,11 @@ def render(rows: list[dict], missing: list[str], command: str, wall: float | Non
           f"S(phi), S(psi) >= 0.9 in the protein's NMR ensemble, Hyberts et al. 1992; tools/ordered_core.py; "
           f"every residue where there is no ensemble; on average {_core(rows)} of the chain), so that "
           f"disordered termini and loops do not set the TM-score: mean rho {_mean(rows, 'rho_core')} over "
-          f"all models, {_mean(rows, 'rho_core_near')} without the threaded ones"]
+          f"all models, {_mean(rows, 'rho_core_near')} without the threaded ones",
+          f"* diagnostic, against GDT_TS instead (Zemla 2003, global distance test; tools/tmscore.py): "
+          f"mean rho {_mean(rows, 'rho_gdt')} over all models, {_mean(rows, 'rho_gdt_near')} without "
+          "the threaded ones",
+          _spread_line(rows)]
     if missing:
         L += ["", "No decoys generated for: " + ", ".join(missing) + "."]
     L += [""] + diagnose(rows)

@@ -26,7 +26,7 @@ import predictor_tables as tables  # noqa: E402
 import realdata_pairs as rp  # noqa: E402
 
 from shiftcheck.predict.calibrate import collect, lambda_grid, load_settings  # noqa: E402
-from shiftcheck.predict.crossval import GroupedRows, block_factors_for, choose_lambda, pooled_error  # noqa: E402
+from shiftcheck.predict.crossval import GroupedRows, block_factors_for, choose_lambda, huber_for, pooled_error  # noqa: E402
 
 NUCLEI = ("H", "HA", "CA", "CB", "C", "N", "HMe", "Haro")
 BACKBONE = ("H", "HA", "CA", "CB", "C", "N")
@@ -60,11 +60,11 @@ def loo(ds, nuc, groups, rm, settings, lam=None, train=None):
                                     screen=settings.get("target_screen"))
         gl = sorted({x.group for x in ds})
         go = np.array([gl.index(ds[k].group) for k in d])
-        rows = GroupedRows(names, X, y, d, w, go, block_factors_for(settings, nuc))
+        rows = GroupedRows(names, X, y, d, w, go, block_factors_for(settings, nuc), huber_for(settings, nuc))
         if train is not None:
             rows = rows.subset(np.isin(go, [gl.index(g) for g in train]))
-        if lam is None:
-            lam, _ = choose_lambda(rows, lambda_grid(settings, nuc), it)
+        if lam is None:     # λ by the squared-loss CV, as shiftcheck calibrate chooses it
+            lam, _ = choose_lambda(rows.with_huber(None), lambda_grid(settings, nuc), it)
         fits = {}
     for i, dset in enumerate(ds):
         if train is not None and dset.group in train:
@@ -310,7 +310,7 @@ def _partners(ds, settings, rm):
                                         burial=settings.get("burial"), screen=settings.get("target_screen"),
                                         models="mean")
             rows = GroupedRows(names, X, y, d, w, np.array([gid[data[k].group] for k in d]),
-                               block_factors_for(settings, nuc))
+                               block_factors_for(settings, nuc), huber_for(settings, nuc))
             pred = rows.loo(float(lams[nuc]), it)
             pooled[(name, nuc)] = pooled_error(rows.y, pred, rows.w, rows.group_of)
             for g, lab in short.items():

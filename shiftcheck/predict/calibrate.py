@@ -274,7 +274,7 @@ def lambda_grid(settings: dict, nucleus: str) -> list[float]:
 def calibrate(datasets: list[Dataset], settings: dict | None = None, description: str = "",
               ring_models=RING_MODELS) -> dict:
     """Fit all coefficients and return a parameter dict (see :mod:`shiftcheck.predict.params`)."""
-    from .crossval import GroupedRows, block_factors_for, choose_lambda, pooled_error
+    from .crossval import GroupedRows, block_factors_for, choose_lambda, huber_for, pooled_error
     from .expected_error import residue_error_block, residue_rule_block
 
     settings = settings or load_settings()
@@ -292,10 +292,10 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
             if y.size < len(names) // 4 + 2:
                 continue
             group_of = np.array([gid[datasets[k].group] for k in d])
-            rows = GroupedRows(names, X, y, d, w, group_of, block_factors_for(settings, nuc))
+            rows = GroupedRows(names, X, y, d, w, group_of, block_factors_for(settings, nuc), huber_for(settings, nuc))
             grid = lambda_grid(settings, nuc)
-            if len(groups_all) > 2 and len(grid) > 1:
-                lam, _ = choose_lambda(rows, grid, it)
+            if len(groups_all) > 2 and len(grid) > 1:     # λ by the squared-loss CV (also for a Huber fit)
+                lam, _ = choose_lambda(rows.with_huber(None), grid, it)
             else:
                 lam = ridge_lambda(settings, nuc) if "value" in settings["ridge_lambda"] else grid[0]
             lams[rm][nuc] = lam
@@ -327,6 +327,7 @@ def calibrate(datasets: list[Dataset], settings: dict | None = None, description
         "referencing_iterations": settings["referencing_iterations"],
         "conformation": settings["conformation"],
         **({"burial": settings["burial"]} if "burial" in settings else {}),
+        **({"robust": settings["robust"]} if "robust" in settings else {}),
         "groups": settings["groups"],
         **({"target_screen": settings["target_screen"]} if "target_screen" in settings else {}),
         "coefficients": coeffs,

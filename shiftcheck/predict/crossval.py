@@ -17,7 +17,7 @@ import re
 
 import numpy as np
 
-__all__ = ["GroupedRows", "column_blocks", "penalty_factors", "block_factors_for", "choose_lambda",
+__all__ = ["GroupedRows", "column_blocks", "penalty_factors", "block_factors_for", "huber_for", "choose_lambda",
            "centred_residuals", "pooled_error", "tail_scale", "residue_factors", "choose_residue_shrinkage",
            "heldout_sigma"]
 
@@ -58,6 +58,14 @@ def block_factors_for(settings: dict, nucleus: str) -> dict | None:
     return ((settings.get("ridge_lambda") or {}).get("block_factors") or {}).get(nucleus)
 
 
+def huber_for(settings: dict, nucleus: str) -> tuple[float, int] | None:
+    """(Huber tuning constant c, IRLS passes) of one nucleus class from the ``robust`` setting, or
+    None for a plain least-squares fit."""
+    rb = settings.get("robust") or {}
+    c = (rb.get("huber_c") or {}).get(nucleus)
+    return None if c is None else (float(c), int(rb.get("passes", 10)))
+
+
 def penalty_factors(names, block_factors: dict | None) -> np.ndarray:
     """Per-column multiplier of the ridge strength: ``block_factors[block]`` (default 1)."""
     bf = block_factors or {}
@@ -75,11 +83,15 @@ class GroupedRows:
     block_factors : dict, optional
         Block -> multiplier of the ridge strength for that block's columns (:func:`column_blocks`;
         the setting ``ridge_lambda.block_factors`` of one nucleus class); default 1 everywhere.
+    huber : (c, passes), optional
+        Fit with Huber loss instead of squares (:func:`huber_for`; see :meth:`fit`).
     """
 
-    def __init__(self, names, X, y, d, w, group_of, block_factors: dict | None = None):
+    def __init__(self, names, X, y, d, w, group_of, block_factors: dict | None = None,
+                 huber: tuple[float, int] | None = None):
         self.names, self.X, self.y, self.d, self.w = list(names), X, y, d, w
         self.group_of = np.asarray(group_of)
+        self.huber = huber
         self.free = np.array([n == "const" for n in self.names])
         self.pen = penalty_factors(self.names, block_factors)
         self._index()
@@ -133,7 +145,32 @@ class GroupedRows:
         return 0.5 * (v[lo] + v[hi])
 
     def fit(self, lam: float, iterations: int = 1, exclude_group=None):
-        """(coefficients, offsets by dataset id) fitted on every dataset not in ``exclude_group``."""
+        """(coefficients, offsets by dataset id) fitted on every dataset not in ``exclude_group``.
+
+        With ``huber = (c, passes)`` the squared loss becomes Huber's on the residuals after the
+        referencing offsets (Huber 1964, Ann. Math. Stat. 35:73), minimised by iteratively
+        reweighted least squares (Holland & Welsch 1977, Commun. Stat. A6:813; both from memory):
+        each pass refits with row weights w · min(1, c s / |r|), s = 1.4826 · median |r| of the
+        plain fit (held fixed), r the previous pass's residuals; ``passes`` passes."""
+        if self.huber is None:
+            return self._fit_plain(lam, iterations, exclude_group)
+        c, passes = self.huber
+        keep = np.ones(self.y.shape, bool) if exclude_group is None else self.group_of != exclude_group
+        sub = self.subset(keep) if exclude_group is not None else copy.copy(self)
+        sub.huber = None
+        beta, off = sub._fit_plain(lam, iterations)
+        r = sub.y - sub.X @ beta - np.array([off.get(k, 0.0) for k in sub.d.tolist()])
+        s = 1.4826 * float(np.median(np.abs(r)))
+        for _ in range(passes):
+            u = np.minimum(1.0, c * s / np.maximum(np.abs(r), 1e-12))
+            rw = GroupedRows(sub.names, sub.X, sub.y, sub.d, sub.w * u, sub.group_of)
+            rw.pen = sub.pen
+            beta, off = rw._fit_plain(lam, iterations)
+            r = sub.y - sub.X @ beta - np.array([off.get(k, 0.0) for k in sub.d.tolist()])
+        return beta, off
+
+    def _fit_plain(self, lam: float, iterations: int = 1, exclude_group=None):
+        """Weighted ridge with referencing offsets (squared loss), from the per-dataset sums."""
         keys = [k for k in self.rows if exclude_group is None or self.group[k] != exclude_group]
         beta = self._solve(keys, lam, exclude_group=exclude_group)
         pos = {k: i for i, k in enumerate(self.ids.tolist())}
@@ -166,6 +203,12 @@ class GroupedRows:
         pred = sub.loo(lam, iterations)
         return pooled_error(sub.y, pred, sub.w, sub.group_of)
 
+    def with_huber(self, huber: tuple[float, int] | None) -> "GroupedRows":
+        """The same rows with another loss (None: squares; (c, passes): Huber, see :meth:`fit`)."""
+        new = copy.copy(self)
+        new.huber = huber
+        return new
+
     def with_block_factors(self, block_factors: dict | None) -> "GroupedRows":
         """The same rows and sums with other block-wise ridge strengths (for their selection)."""
         new = copy.copy(self)
@@ -175,7 +218,7 @@ class GroupedRows:
     def subset(self, mask: np.ndarray) -> "GroupedRows":
         """The rows of ``mask`` (whole datasets), reusing their sums (for nested selection)."""
         new = object.__new__(GroupedRows)
-        new.names, new.free, new.pen = self.names, self.free, self.pen
+        new.names, new.free, new.pen, new.huber = self.names, self.free, self.pen, self.huber
         new.X, new.y, new.d, new.w = self.X[mask], self.y[mask], self.d[mask], self.w[mask]
         new.group_of = self.group_of[mask]
         new.group = self.group
