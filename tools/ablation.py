@@ -83,8 +83,10 @@ VARIANTS = [
      lambda s: (_drop_group("hbond")(s), _drop_group("hbond_basis")(s)), "mean"),
     ("− fixed-form hydrogen-bond term only (H, HA, C, N)", _drop_group("hbond"), "mean"),
     ("− ring currents", _drop_group("ring_current"), "mean"),
-    ("− peptide anisotropy (H, HA, C)", _drop_group("anisotropy"), "mean"),
-    ("− burial (CB, C, N)", _drop_group("burial"), "mean"),
+    ("− peptide anisotropy (H, HA, C, HMe, Haro)", _drop_group("anisotropy"), "mean"),
+    ("− burial (CB, C, N, HMe, Haro)", _drop_group("burial"), "mean"),
+    ("− burial and peptide anisotropy for methyl and aromatic H only (HMe, Haro; new)",
+     lambda s: (_drop_group_of("burial", ("HMe", "Haro"))(s), _drop_group_of("anisotropy", ("HMe", "Haro"))(s)), "mean"),
     ("− neighbour conformation (φ/ψ of i±1)", _set_conf("neighbours", {}), "mean"),
     ("− neighbour ψ(i±1) for CB only (new)", _drop_neigh(("CB",)), "mean"),
     ("− neighbour blocks of the forward search (φ/ψ(i−2) for H; φ/ψ(i−1) order 4, φ/ψ(i+1), φ(i+2) for N; "

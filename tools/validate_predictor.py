@@ -40,7 +40,7 @@ STEPS = [("random coil (table + corrections)", ()),
          ("+ hydrogen bonds", ("offset", "conformation", "neighbour", "ring_current", "hbond")),
          ("+ peptide anisotropy",
           ("offset", "conformation", "neighbour", "ring_current", "hbond", "anisotropy")),
-         ("+ burial (CB, C, N)", _BASE),
+         ("+ burial (CB, C, N, HMe, Haro)", _BASE),
          ("+ χ1/χ2 per side-chain class (CA, CB, N)", _BASE + ("sidechain",)),
          ("+ fitted H-bond basis (H)", _BASE + ("sidechain", "hbond_basis")),
          ("+ electric field (CA, CB, C, N; full model)", _BASE + ("sidechain", "hbond_basis", "efield"))]
@@ -283,10 +283,12 @@ def _ablation(ds, settings, rm):
              "(negative = the variant is better on held-out proteins). '−' rows remove a term the shipped "
              "model has; '+' rows add a candidate that was tried and not kept (kept only where it lowered "
              "a class's RMSD by ≥ 0.005 ppm when it was tried). Each variant is fitted at the shipped λ of "
-             "its class (chosen by CV), except the last row. "
+             "its class (chosen by CV), except the last row. HMe: methyl H, Haro: aromatic H "
+             "(no conformation terms; rows that touch only backbone classes leave them unchanged). "
              "(tools/ablation.py)", ""]
     p = json.loads((HERE.parent / "shiftcheck/data/params_default.json").read_text())
-    return lines + ablation.table(ablation.ablation(ds, settings, rm, p["ridge_lambda"]["by_nucleus"]))
+    return lines + ablation.table(ablation.ablation(ds, settings, rm, p["ridge_lambda"]["by_nucleus"], NUCLEI),
+                                  NUCLEI)
 
 
 def _partners(ds, settings, rm):
