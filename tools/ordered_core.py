@@ -82,6 +82,8 @@ def ensemble_spread(root: Path, folder: str, shift_file: str, native) -> tuple[f
     sl = read_shifts(root / folder / shift_file)
     to_nat, to_ens = map_sequence(sl, native).seq_to_res, map_sequence(sl, ens).seq_to_res
     pairs = [(j, to_ens[s]) for s, j in to_nat.items() if s in to_ens]
+    if len(pairs) < 3:                  # too few residues in common to superpose
+        return float("nan"), 0
     nat_ca = native.xyz(np.array([j for j, _ in pairs]), "CA")[0]
     ens_ca = ens.xyz(np.array([k for _, k in pairs]), "CA")
     tms = []
